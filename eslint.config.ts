@@ -4,13 +4,25 @@ import skipFormatting from '@vue/eslint-config-prettier/skip-formatting';
 import globals from 'globals';
 
 export default defineConfigWithVueTs(
-  { ignores: ['dist/**', 'node_modules/**', '.data/**', 'drizzle/**', 'test-results/**', 'uploads/**'] },
+  {
+    ignores: [
+      'dist/**',
+      'node_modules/**',
+      '.data/**',
+      'drizzle/**',
+      'test-results/**',
+      'uploads/**',
+    ],
+  },
   pluginVue.configs['flat/recommended'],
   vueTsConfigs.recommended,
   {
     languageOptions: { globals: { ...globals.node, ...globals.browser } },
     rules: {
-      '@typescript-eslint/no-unused-vars': ['error', { argsIgnorePattern: '^_', varsIgnorePattern: '^_' }],
+      '@typescript-eslint/no-unused-vars': [
+        'error',
+        { argsIgnorePattern: '^_', varsIgnorePattern: '^_' },
+      ],
     },
   },
   {

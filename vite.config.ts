@@ -18,5 +18,6 @@ export default defineConfig({
     testTimeout: 30_000,
     hookTimeout: 120_000,
     include: ['tests/**/*.test.ts'],
+    globalSetup: ['tests/global-setup.ts'],
   },
 });

@@ -1,0 +1,79 @@
+import express, { type Express } from 'express';
+import { existsSync } from 'node:fs';
+import path from 'node:path';
+import type { PasswordHasher } from './auth/passwords';
+import { requireCsrf, requireUser, sessionMiddleware } from './auth/session';
+import type { Database } from './db/client';
+import { errorHandler, notFound } from './http/errors';
+import type { Mailer } from './mail/mailer';
+import { authRoutes } from './routes/auth';
+import { devMailRoutes } from './routes/dev-mail';
+import { healthRoutes } from './routes/health';
+import { projectRoutes } from './routes/projects';
+import { createAuthService } from './services/auth';
+import { createProjectService } from './services/projects';
+
+export interface AppDeps {
+  database: Database;
+  mailer: Mailer;
+  hasher: PasswordHasher;
+  sessionSecret: string;
+  appUrl: string;
+  production: boolean;
+  /** Folder of the local mail sink, for the /dev/mail page (never in production). */
+  mailDir?: string;
+  /** Built client (vite build output) to serve with an SPA fallback. */
+  clientDir?: string;
+  trustProxy?: string;
+}
+
+function parseTrustProxy(value: string): boolean | number | string {
+  if (value === 'true') return true;
+  if (value === 'false') return false;
+  return /^\d+$/.test(value) ? Number(value) : value;
+}
+
+/** Builds the whole app from its dependencies; never listens (server/index.ts does). */
+export function createApp(deps: AppDeps): Express {
+  const { db, pool } = deps.database;
+  const app = express();
+  app.disable('x-powered-by');
+  if (deps.trustProxy) app.set('trust proxy', parseTrustProxy(deps.trustProxy));
+
+  const auth = createAuthService({
+    db,
+    hasher: deps.hasher,
+    mailer: deps.mailer,
+    appUrl: deps.appUrl,
+  });
+  const projects = createProjectService(db);
+
+  const api = express.Router();
+  api.use(express.json({ limit: '2mb' }));
+  api.use('/health', healthRoutes(db));
+  api.use(sessionMiddleware({ pool, secret: deps.sessionSecret, secure: deps.production }));
+  api.use(requireCsrf);
+  api.use('/auth', authRoutes(db, auth));
+  api.use('/projects', requireUser, projectRoutes(db, projects));
+  api.use(() => {
+    throw notFound('That API route');
+  });
+  app.use('/api', api);
+
+  if (!deps.production && deps.mailDir) app.use('/dev/mail', devMailRoutes(deps.mailDir));
+
+  if (deps.clientDir && existsSync(path.join(deps.clientDir, 'index.html'))) {
+    const clientDir = deps.clientDir;
+    app.use(
+      '/assets',
+      express.static(path.join(clientDir, 'assets'), { immutable: true, maxAge: '1y' }),
+    );
+    app.use(express.static(clientDir, { index: false }));
+    app.get('/{*splat}', (_req, res) => {
+      res.set('Cache-Control', 'no-cache').sendFile(path.join(clientDir, 'index.html'));
+    });
+  }
+
+  app.use(errorHandler({ production: deps.production }));
+  return app;
+}

@@ -1,0 +1,78 @@
+import { randomBytes, timingSafeEqual } from 'node:crypto';
+import connectPgSimple from 'connect-pg-simple';
+import type { RequestHandler } from 'express';
+import session from 'express-session';
+import type pg from 'pg';
+import { AppError, unauthenticated } from '../http/errors';
+
+declare module 'express-session' {
+  interface SessionData {
+    userId?: string;
+    csrfToken?: string;
+  }
+}
+
+export const sessionCookieName = 'fairsheet.sid';
+
+/** Sessions in PostgreSQL (the `session` table of the Drizzle schema), so they survive restarts. */
+export function sessionMiddleware(options: {
+  pool: pg.Pool;
+  secret: string;
+  secure: boolean;
+}): RequestHandler {
+  const PgStore = connectPgSimple(session);
+  return session({
+    name: sessionCookieName,
+    secret: options.secret,
+    store: new PgStore({ pool: options.pool, tableName: 'session', createTableIfMissing: false }),
+    resave: false,
+    saveUninitialized: false,
+    rolling: true,
+    cookie: {
+      httpOnly: true,
+      sameSite: 'lax',
+      secure: options.secure,
+      maxAge: 30 * 24 * 3600 * 1000,
+    },
+  });
+}
+
+export function newCsrfToken(): string {
+  return randomBytes(24).toString('base64url');
+}
+
+const safeMethods = new Set(['GET', 'HEAD', 'OPTIONS']);
+
+/** Refuses state-changing requests whose X-CSRF-Token header does not match the session's. */
+export const requireCsrf: RequestHandler = (req, _res, next) => {
+  if (safeMethods.has(req.method)) return next();
+  const sent = req.get('x-csrf-token') ?? '';
+  const expected = req.session?.csrfToken ?? '';
+  const ok =
+    expected.length > 0 &&
+    sent.length === expected.length &&
+    timingSafeEqual(Buffer.from(sent), Buffer.from(expected));
+  if (!ok) {
+    next(new AppError('csrf', 'The form has expired. Reload the page and try again.', 403));
+    return;
+  }
+  next();
+};
+
+export const requireUser: RequestHandler = (req, _res, next) => {
+  if (!req.session?.userId) return next(unauthenticated());
+  next();
+};
+
+/** Regenerates the session id (sign-in) and keeps a fresh CSRF token in it. */
+export function regenerateSession(req: Express.Request): Promise<void> {
+  return new Promise((resolve, reject) => {
+    req.session.regenerate((err) => (err ? reject(err) : resolve()));
+  });
+}
+
+export function destroySession(req: Express.Request): Promise<void> {
+  return new Promise((resolve, reject) => {
+    req.session.destroy((err) => (err ? reject(err) : resolve()));
+  });
+}

@@ -1,0 +1,79 @@
+import { and, asc, desc, eq, sql } from 'drizzle-orm';
+import type { Db } from './client';
+import { memberships, projects, users, type MembershipRow, type ProjectRow } from './schema';
+
+export type Role = MembershipRow['role'];
+
+export async function listProjectsOfUser(db: Db, userId: string) {
+  return db
+    .select({ project: projects, role: memberships.role })
+    .from(memberships)
+    .innerJoin(projects, eq(projects.id, memberships.projectId))
+    .where(eq(memberships.userId, userId))
+    .orderBy(desc(projects.updatedAt));
+}
+
+export async function findMembership(db: Db, projectId: string, userId: string) {
+  const [row] = await db
+    .select({ project: projects, role: memberships.role })
+    .from(memberships)
+    .innerJoin(projects, eq(projects.id, memberships.projectId))
+    .where(and(eq(memberships.projectId, projectId), eq(memberships.userId, userId)));
+  return row;
+}
+
+export async function insertProject(
+  db: Db,
+  ownerId: string,
+  values: Pick<ProjectRow, 'name' | 'displayUnit' | 'modelScale'>,
+): Promise<ProjectRow> {
+  return db.transaction(async (tx) => {
+    const [project] = await tx.insert(projects).values(values).returning();
+    await tx.insert(memberships).values({ projectId: project.id, userId: ownerId, role: 'owner' });
+    return project;
+  });
+}
+
+export async function updateProject(
+  db: Db,
+  projectId: string,
+  values: Partial<Pick<ProjectRow, 'name' | 'displayUnit' | 'modelScale'>>,
+): Promise<ProjectRow> {
+  const [row] = await db
+    .update(projects)
+    .set({ ...values, updatedAt: sql`now()` })
+    .where(eq(projects.id, projectId))
+    .returning();
+  return row;
+}
+
+export async function deleteProject(db: Db, projectId: string) {
+  await db.delete(projects).where(eq(projects.id, projectId));
+}
+
+export async function listMembers(db: Db, projectId: string) {
+  return db
+    .select({
+      userId: users.id,
+      name: users.name,
+      email: users.email,
+      role: memberships.role,
+      since: memberships.createdAt,
+    })
+    .from(memberships)
+    .innerJoin(users, eq(users.id, memberships.userId))
+    .where(eq(memberships.projectId, projectId))
+    .orderBy(asc(memberships.createdAt));
+}
+
+export async function upsertMembership(db: Db, projectId: string, userId: string, role: Role) {
+  await db
+    .insert(memberships)
+    .values({ projectId, userId, role })
+    .onConflictDoUpdate({ target: [memberships.projectId, memberships.userId], set: { role } });
+}
+
+export async function findProjectByName(db: Db, name: string) {
+  const [row] = await db.select().from(projects).where(eq(projects.name, name));
+  return row;
+}

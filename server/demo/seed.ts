@@ -1,0 +1,31 @@
+// The demo scenario (invented; every name and figure in it is ours): see README "What you see".
+import type { PasswordHasher } from '../auth/passwords';
+import type { Db } from '../db/client';
+import { findProjectByName, insertProject, upsertMembership } from '../db/projects';
+import { findUserByEmail, insertUser } from '../db/users';
+
+export const demoPassword = 'fairsheet-demo';
+export const demoBuilder = { email: 'builder@example.com', name: 'Alex Marsh (builder)' };
+export const demoChecker = { email: 'checker@example.com', name: 'Jo Penrose (club mentor)' };
+export const demoProjectName = 'Kestrel — 5 in gauge tank engine, frames and hornblocks';
+
+async function ensureUser(db: Db, hasher: PasswordHasher, who: { email: string; name: string }) {
+  const existing = await findUserByEmail(db, who.email);
+  if (existing) return { user: existing, created: false };
+  const user = await insertUser(db, { ...who, passwordHash: await hasher.hash(demoPassword) });
+  return { user: user ?? (await findUserByEmail(db, who.email))!, created: true };
+}
+
+/** Creates the demo accounts and project once; answers whether anything was created. */
+export async function seedDemo(db: Db, hasher: PasswordHasher): Promise<boolean> {
+  const builder = await ensureUser(db, hasher, demoBuilder);
+  const checker = await ensureUser(db, hasher, demoChecker);
+  if (await findProjectByName(db, demoProjectName)) return builder.created || checker.created;
+  const project = await insertProject(db, builder.user.id, {
+    name: demoProjectName,
+    displayUnit: 'in',
+    modelScale: '1:11.3',
+  });
+  await upsertMembership(db, project.id, checker.user.id, 'checker');
+  return true;
+}

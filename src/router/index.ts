@@ -1,0 +1,59 @@
+import { createRouter, createWebHistory } from 'vue-router';
+import { useSessionStore } from '@/stores/session';
+
+declare module 'vue-router' {
+  interface RouteMeta {
+    /** Reachable signed out. */
+    public?: boolean;
+    /** Only for the signed out (sign-in, register): the signed-in go to their projects. */
+    guestOnly?: boolean;
+  }
+}
+
+export const router = createRouter({
+  history: createWebHistory(),
+  routes: [
+    { path: '/', redirect: '/projects' },
+    {
+      path: '/sign-in',
+      name: 'sign-in',
+      component: () => import('@/views/SignInView.vue'),
+      meta: { public: true, guestOnly: true },
+    },
+    {
+      path: '/register',
+      name: 'register',
+      component: () => import('@/views/RegisterView.vue'),
+      meta: { public: true, guestOnly: true },
+    },
+    {
+      path: '/reset-password',
+      name: 'reset-password',
+      component: () => import('@/views/ResetPasswordView.vue'),
+      meta: { public: true },
+    },
+    { path: '/projects', name: 'projects', component: () => import('@/views/ProjectsView.vue') },
+    {
+      path: '/projects/:projectId',
+      name: 'project',
+      component: () => import('@/views/ProjectOverviewView.vue'),
+      props: true,
+    },
+    {
+      path: '/:pathMatch(.*)*',
+      name: 'not-found',
+      component: () => import('@/views/NotFoundView.vue'),
+      meta: { public: true },
+    },
+  ],
+});
+
+router.beforeEach(async (to) => {
+  const session = useSessionStore();
+  // Server unreachable: carry on as signed out; the sign-in form then says what is wrong.
+  await session.ensureLoaded().catch(() => undefined);
+  if (to.meta.guestOnly && session.signedIn) return { name: 'projects' };
+  if (!to.meta.public && !session.signedIn)
+    return { name: 'sign-in', query: { next: to.fullPath } };
+  return true;
+});

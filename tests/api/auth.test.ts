@@ -1,0 +1,229 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { passwordResetMessage } from '@shared/api';
+import { createTestApp, TestClient, waitForMail, type TestApp } from '../helpers/app';
+
+let t: TestApp;
+beforeAll(async () => {
+  t = await createTestApp();
+});
+afterAll(() => t.close());
+
+describe('sessions and CSRF', () => {
+  it('GET /api/auth/session answers no user and a CSRF token when signed out', async () => {
+    const c = new TestClient(t.app);
+    const body = await c.refresh();
+    expect(body.user).toBeNull();
+    expect(body.csrfToken).toMatch(/^[\w-]{20,}$/);
+  });
+
+  it('POST without the X-CSRF-Token header is refused with 403', async () => {
+    const c = new TestClient(t.app);
+    await c.refresh();
+    const res = await c.agent
+      .post('/api/auth/login')
+      .send({ email: 'a@example.com', password: 'x' });
+    expect(res.status).toBe(403);
+    expect(res.body.error.code).toBe('csrf');
+  });
+
+  it('POST with a wrong CSRF token is refused with 403', async () => {
+    const c = new TestClient(t.app);
+    await c.refresh();
+    const res = await c.agent
+      .post('/api/projects')
+      .set('X-CSRF-Token', 'not-the-token')
+      .send({ name: 'x' });
+    expect(res.status).toBe(403);
+  });
+
+  it('GET /api/health answers ok with the database up', async () => {
+    const res = await new TestClient(t.app).get('/api/health').expect(200);
+    expect(res.body).toEqual({ ok: true, db: 'up' });
+  });
+});
+
+describe('register and sign in', () => {
+  it('POST /api/auth/register creates an account that is signed in at once', async () => {
+    const c = new TestClient(t.app);
+    const user = await c.register('new.builder@example.com');
+    expect(user.email).toBe('new.builder@example.com');
+    const session = await c.refresh();
+    expect(session.user.email).toBe('new.builder@example.com');
+    await c.get('/api/projects').expect(200);
+  });
+
+  it('register lower-cases the e-mail and refuses a duplicate with 409', async () => {
+    const c = new TestClient(t.app);
+    await c.register('Mixed.Case@Example.com');
+    const again = new TestClient(t.app);
+    await again.refresh();
+    const res = await again.post('/api/auth/register', {
+      name: 'Other',
+      email: 'mixed.case@example.com',
+      password: 'another long password',
+    });
+    expect(res.status).toBe(409);
+    expect(res.body.error.details.fields[0].path).toBe('email');
+  });
+
+  it('register refuses a short password with 400 naming the field', async () => {
+    const c = new TestClient(t.app);
+    await c.refresh();
+    const res = await c.post('/api/auth/register', {
+      name: 'Short',
+      email: 'short@example.com',
+      password: 'abc',
+    });
+    expect(res.status).toBe(400);
+    expect(res.body.error.code).toBe('bad_request');
+    expect(res.body.error.details.fields.map((f: { path: string }) => f.path)).toEqual([
+      'password',
+    ]);
+  });
+
+  it('register refuses a bad e-mail and a missing name, naming both fields', async () => {
+    const c = new TestClient(t.app);
+    await c.refresh();
+    const res = await c.post('/api/auth/register', {
+      email: 'not-an-email',
+      password: 'long enough password',
+    });
+    expect(res.status).toBe(400);
+    const paths = res.body.error.details.fields.map((f: { path: string }) => f.path).sort();
+    expect(paths).toEqual(['email', 'name']);
+  });
+
+  it('login regenerates the session id and a new CSRF token', async () => {
+    const c = new TestClient(t.app);
+    await c.register('regen@example.com', 'regen password 1');
+    await c.post('/api/auth/logout').expect(204);
+    const before = await c.refresh();
+    const cookieBefore = (await c.get('/api/auth/session')).headers['set-cookie'];
+    const res = await c.login('regen@example.com', 'regen password 1');
+    expect(res.status).toBe(200);
+    expect(res.body.csrfToken).not.toBe(before.csrfToken);
+    const setCookie = String(res.headers['set-cookie']);
+    expect(setCookie).toMatch(/fairsheet\.sid=/);
+    expect(setCookie).toMatch(/HttpOnly/i);
+    expect(setCookie).toMatch(/SameSite=Lax/i);
+    expect(setCookie).not.toBe(String(cookieBefore));
+  });
+
+  it('a wrong password and an unknown e-mail get the same 401 and message', async () => {
+    const c = new TestClient(t.app);
+    await c.register('known@example.com', 'the right password');
+    const wrong = await new TestClient(t.app).login('known@example.com', 'the wrong password');
+    const unknown = await new TestClient(t.app).login('nobody@example.com', 'the wrong password');
+    expect(wrong.status).toBe(401);
+    expect(unknown.status).toBe(401);
+    expect(wrong.body.error.message).toBe(unknown.body.error.message);
+  });
+
+  it('logout ends the session: /api/projects then answers 401', async () => {
+    const c = new TestClient(t.app);
+    await c.register('leaving@example.com');
+    await c.post('/api/auth/logout').expect(204);
+    await c.refresh();
+    const res = await c.get('/api/projects');
+    expect(res.status).toBe(401);
+    expect(res.body.error.code).toBe('unauthenticated');
+  });
+});
+
+describe('rate limiting of failed sign-ins', () => {
+  it('the 11th failure in 15 minutes for one account and address answers 429 with Retry-After', async () => {
+    const owner = new TestClient(t.app);
+    await owner.register('target@example.com', 'the real password');
+    const attacker = new TestClient(t.app);
+    for (let i = 0; i < 10; i++) {
+      const res = await attacker.login('target@example.com', `guess number ${i}`);
+      expect(res.status).toBe(401);
+    }
+    const blocked = await attacker.login('target@example.com', 'the real password');
+    expect(blocked.status).toBe(429);
+    expect(blocked.body.error.code).toBe('rate_limited');
+    expect(Number(blocked.headers['retry-after'])).toBeGreaterThan(0);
+    // Another account from the same address is not locked out.
+    const other = new TestClient(t.app);
+    await other.register('bystander@example.com', 'bystander password');
+    await other.post('/api/auth/logout');
+    expect((await other.login('bystander@example.com', 'bystander password')).status).toBe(200);
+  });
+
+  it('successful sign-ins do not count towards the limit', async () => {
+    const c = new TestClient(t.app);
+    await c.register('regular@example.com', 'regular password');
+    for (let i = 0; i < 12; i++) {
+      const res = await c.login('regular@example.com', 'regular password');
+      expect(res.status).toBe(200);
+    }
+  });
+});
+
+describe('password reset by e-mail', () => {
+  it('answers the same for a known and an unknown address', async () => {
+    const c = new TestClient(t.app);
+    await c.register('same.answer@example.com');
+    const asker = new TestClient(t.app);
+    await asker.refresh();
+    const known = await asker.post('/api/auth/password-reset', {
+      email: 'same.answer@example.com',
+    });
+    const unknown = await asker.post('/api/auth/password-reset', {
+      email: 'no.account@example.com',
+    });
+    expect(known.status).toBe(202);
+    expect(unknown.status).toBe(202);
+    expect(known.body).toEqual({ message: passwordResetMessage });
+    expect(unknown.body).toEqual(known.body);
+  });
+
+  it('mails a working single-use link through the SMTP sink', async () => {
+    const c = new TestClient(t.app);
+    await c.register('forgetful@example.com', 'old password 123');
+    const asker = new TestClient(t.app);
+    await asker.refresh();
+    await asker.post('/api/auth/password-reset', { email: 'forgetful@example.com' }).expect(202);
+
+    const mail = await waitForMail(t, 'forgetful@example.com');
+    expect(mail.subject).toMatch(/reset/i);
+    const link = mail.body.match(/https?:\/\/\S+\/reset-password\?token=([\w-]+)/);
+    expect(link).not.toBeNull();
+    const token = link![1];
+
+    await asker
+      .post('/api/auth/password-reset/confirm', { token, password: 'new password 456' })
+      .expect(200);
+    // The old session of that user is signed out everywhere.
+    expect((await c.get('/api/projects')).status).toBe(401);
+    expect(
+      (await new TestClient(t.app).login('forgetful@example.com', 'old password 123')).status,
+    ).toBe(401);
+    expect(
+      (await new TestClient(t.app).login('forgetful@example.com', 'new password 456')).status,
+    ).toBe(200);
+
+    const again = await asker.post('/api/auth/password-reset/confirm', {
+      token,
+      password: 'third password 789',
+    });
+    expect(again.status).toBe(400);
+    expect(again.body.error.details.fields[0].path).toBe('token');
+  });
+
+  it('refuses an expired token', async () => {
+    const c = new TestClient(t.app);
+    await c.register('late@example.com', 'late password 1');
+    await c.post('/api/auth/password-reset', { email: 'late@example.com' }).expect(202);
+    const mail = await waitForMail(t, 'late@example.com');
+    const token = mail.body.match(/token=([\w-]+)/)![1];
+    await t.database.pool.query(
+      `update password_resets set expires_at = now() - interval '1 minute'`,
+    );
+    const res = await c.post('/api/auth/password-reset/confirm', {
+      token,
+      password: 'late password 2',
+    });
+    expect(res.status).toBe(400);
+  });
+});

@@ -1,0 +1,140 @@
+import { randomBytes } from 'node:crypto';
+import { mkdtempSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import path from 'node:path';
+import pg from 'pg';
+import request from 'supertest';
+import { inject } from 'vitest';
+import { createApp } from '../../server/app';
+import { createPasswordHasher } from '../../server/auth/passwords';
+import { connect, type Database } from '../../server/db/client';
+import { createMailer } from '../../server/mail/mailer';
+import { readMailbox, startMailSink, type MailSink } from '../../server/mail/sink';
+
+/** A fresh database copied from the run's migrated template. */
+export async function createTestDatabase(): Promise<{
+  url: string;
+  name: string;
+  drop: () => Promise<void>;
+}> {
+  const port = inject('pgPort');
+  const name = `t_${randomBytes(6).toString('hex')}`;
+  const admin = new pg.Client({
+    connectionString: `postgres://postgres@127.0.0.1:${port}/postgres`,
+  });
+  await admin.connect();
+  await admin.query(`CREATE DATABASE "${name}" TEMPLATE "${inject('templateDb')}"`);
+  await admin.end();
+  return {
+    name,
+    url: `postgres://postgres@127.0.0.1:${port}/${name}`,
+    async drop() {
+      const c = new pg.Client({
+        connectionString: `postgres://postgres@127.0.0.1:${port}/postgres`,
+      });
+      await c.connect();
+      await c.query(`DROP DATABASE IF EXISTS "${name}" WITH (FORCE)`);
+      await c.end();
+    },
+  };
+}
+
+export const testHasher = createPasswordHasher(4);
+
+export interface TestApp {
+  app: ReturnType<typeof createApp>;
+  database: Database;
+  sink: MailSink;
+  mail: () => ReturnType<typeof readMailbox>;
+  close: () => Promise<void>;
+}
+
+/** The real app (createApp) on a real, fresh PostgreSQL database, with a real SMTP sink. */
+export async function createTestApp(
+  options: { clientDir?: string; appUrl?: string } = {},
+): Promise<TestApp> {
+  const testDb = await createTestDatabase();
+  const database = connect(testDb.url, 5);
+  const sink = await startMailSink({
+    port: 0,
+    dir: mkdtempSync(path.join(tmpdir(), 'fairsheet-mail-')),
+  });
+  const app = createApp({
+    database,
+    mailer: createMailer({ sinkPort: sink.port, from: 'Fairsheet <test@fairsheet.local>' }),
+    hasher: testHasher,
+    sessionSecret: randomBytes(32).toString('hex'),
+    appUrl: options.appUrl ?? 'http://127.0.0.1:3000',
+    production: false,
+    mailDir: sink.dir,
+    clientDir: options.clientDir,
+  });
+  return {
+    app,
+    database,
+    sink,
+    mail: () => readMailbox(sink.dir),
+    async close() {
+      await sink.close();
+      await database.pool.end();
+      await testDb.drop();
+    },
+  };
+}
+
+/** A supertest agent that keeps its cookie and sends the CSRF token on every change. */
+export class TestClient {
+  readonly agent: ReturnType<typeof request.agent>;
+  csrf = '';
+
+  constructor(app: TestApp['app']) {
+    this.agent = request.agent(app);
+  }
+
+  async refresh() {
+    const res = await this.agent.get('/api/auth/session').expect(200);
+    this.csrf = res.body.csrfToken;
+    return res.body;
+  }
+
+  get(url: string) {
+    return this.agent.get(url);
+  }
+  post(url: string, body?: object) {
+    return this.agent.post(url).set('X-CSRF-Token', this.csrf).send(body);
+  }
+  patch(url: string, body?: object) {
+    return this.agent.patch(url).set('X-CSRF-Token', this.csrf).send(body);
+  }
+  put(url: string, body?: object) {
+    return this.agent.put(url).set('X-CSRF-Token', this.csrf).send(body);
+  }
+  delete(url: string) {
+    return this.agent.delete(url).set('X-CSRF-Token', this.csrf);
+  }
+
+  async register(email: string, password = 'correct horse battery', name = 'Test Builder') {
+    await this.refresh();
+    const res = await this.post('/api/auth/register', { name, email, password }).expect(201);
+    this.csrf = res.body.csrfToken;
+    return res.body.user as { id: string; email: string };
+  }
+
+  async login(email: string, password: string) {
+    await this.refresh();
+    const res = await this.post('/api/auth/login', { email, password });
+    if (res.status === 200) this.csrf = res.body.csrfToken;
+    return res;
+  }
+}
+
+/** Polls the sink until a message for `to` arrives (mail is sent after the HTTP answer). */
+export async function waitForMail(t: TestApp, to: string, timeoutMs = 5000) {
+  const start = Date.now();
+  while (Date.now() - start < timeoutMs) {
+    const found = t.mail().find((m) => m.to.includes(to));
+    if (found) return found;
+    await new Promise((r) => setTimeout(r, 50));
+  }
+  throw new Error(`no mail to ${to} within ${timeoutMs} ms`);
+}
