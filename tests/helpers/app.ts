@@ -44,6 +44,7 @@ export const testHasher = createPasswordHasher(4);
 export interface TestApp {
   app: ReturnType<typeof createApp>;
   database: Database;
+  databaseUrl: string;
   sink: MailSink;
   mail: () => ReturnType<typeof readMailbox>;
   close: () => Promise<void>;
@@ -63,7 +64,7 @@ export async function createTestApp(
     database,
     mailer: createMailer({ sinkPort: sink.port, from: 'Fairsheet <test@fairsheet.local>' }),
     hasher: testHasher,
-    sessionSecret: randomBytes(32).toString('hex'),
+    sessionSecret: options.sessionSecret ?? randomBytes(32).toString('hex'),
     appUrl: options.appUrl ?? 'http://127.0.0.1:3000',
     production: false,
     mailDir: sink.dir,
@@ -72,6 +73,7 @@ export async function createTestApp(
   return {
     app,
     database,
+    databaseUrl: testDb.url,
     sink,
     mail: () => readMailbox(sink.dir),
     async close() {
