@@ -9,8 +9,10 @@ import type { Mailer } from './mail/mailer';
 import { authRoutes } from './routes/auth';
 import { devMailRoutes } from './routes/dev-mail';
 import { healthRoutes } from './routes/health';
+import { modelRoutes } from './routes/models';
 import { projectRoutes } from './routes/projects';
 import { createAuthService } from './services/auth';
+import { createModelService } from './services/models';
 import { createProjectService } from './services/projects';
 
 export interface AppDeps {
@@ -46,7 +48,8 @@ export function createApp(deps: AppDeps): Express {
     mailer: deps.mailer,
     appUrl: deps.appUrl,
   });
-  const projects = createProjectService(db);
+  const models = createModelService(db);
+  const projects = createProjectService(db, models);
 
   const api = express.Router();
   api.use(express.json({ limit: '2mb' }));
@@ -54,7 +57,7 @@ export function createApp(deps: AppDeps): Express {
   api.use(sessionMiddleware({ pool, secret: deps.sessionSecret, secure: deps.production }));
   api.use(requireCsrf);
   api.use('/auth', authRoutes(db, auth));
-  api.use('/projects', requireUser, projectRoutes(db, projects));
+  api.use('/projects', requireUser, projectRoutes(db, projects), modelRoutes(db, models));
   api.use(() => {
     throw notFound('That API route');
   });

@@ -1,5 +1,6 @@
 import { and, asc, desc, eq, sql } from 'drizzle-orm';
 import type { Db } from './client';
+import type { DbOrTx } from './models';
 import { memberships, projects, users, type MembershipRow, type ProjectRow } from './schema';
 
 export type Role = MembershipRow['role'];
@@ -22,16 +23,15 @@ export async function findMembership(db: Db, projectId: string, userId: string) 
   return row;
 }
 
+/** Inserts a project with its owner; call inside the service's transaction. */
 export async function insertProject(
-  db: Db,
+  db: DbOrTx,
   ownerId: string,
   values: Pick<ProjectRow, 'name' | 'displayUnit' | 'modelScale'>,
 ): Promise<ProjectRow> {
-  return db.transaction(async (tx) => {
-    const [project] = await tx.insert(projects).values(values).returning();
-    await tx.insert(memberships).values({ projectId: project.id, userId: ownerId, role: 'owner' });
-    return project;
-  });
+  const [project] = await db.insert(projects).values(values).returning();
+  await db.insert(memberships).values({ projectId: project.id, userId: ownerId, role: 'owner' });
+  return project;
 }
 
 export async function updateProject(
@@ -66,7 +66,7 @@ export async function listMembers(db: Db, projectId: string) {
     .orderBy(asc(memberships.createdAt));
 }
 
-export async function upsertMembership(db: Db, projectId: string, userId: string, role: Role) {
+export async function upsertMembership(db: DbOrTx, projectId: string, userId: string, role: Role) {
   await db
     .insert(memberships)
     .values({ projectId, userId, role })

@@ -2,6 +2,7 @@ import {
   index,
   integer,
   json,
+  jsonb,
   pgTable,
   primaryKey,
   text,
@@ -94,3 +95,33 @@ export const rateLimits = pgTable('rate_limits', {
 export type UserRow = typeof users.$inferSelect;
 export type ProjectRow = typeof projects.$inferSelect;
 export type MembershipRow = typeof memberships.$inferSelect;
+
+/** The current model of a project (format v1) and the server's solve of it. */
+export const projectModels = pgTable('project_models', {
+  projectId: uuid('project_id')
+    .primaryKey()
+    .references(() => projects.id, { onDelete: 'cascade' }),
+  /** Bumped by every save; a save naming an older revision is refused (409). */
+  revision: integer('revision').notNull().default(0),
+  model: jsonb('model').notNull(),
+  result: jsonb('result'),
+  updatedAt: timestamp('updated_at', { withTimezone: true }).notNull().defaultNow(),
+  updatedBy: uuid('updated_by').references(() => users.id, { onDelete: 'set null' }),
+});
+
+/** One row per saved revision: who, when, what changed, and the whole model for restore. */
+export const modelRevisions = pgTable(
+  'model_revisions',
+  {
+    projectId: uuid('project_id')
+      .notNull()
+      .references(() => projects.id, { onDelete: 'cascade' }),
+    revision: integer('revision').notNull(),
+    userId: uuid('user_id').references(() => users.id, { onDelete: 'set null' }),
+    createdAt: timestamp('created_at', { withTimezone: true }).notNull().defaultNow(),
+    summary: text('summary').notNull(),
+    diff: jsonb('diff').notNull(),
+    model: jsonb('model').notNull(),
+  },
+  (t) => [primaryKey({ columns: [t.projectId, t.revision] })],
+);

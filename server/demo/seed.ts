@@ -1,8 +1,10 @@
 // The demo scenario (invented; every name and figure in it is ours): see README "What you see".
 import type { PasswordHasher } from '../auth/passwords';
 import type { Db } from '../db/client';
-import { findProjectByName, insertProject, upsertMembership } from '../db/projects';
+import { findProjectByName, upsertMembership } from '../db/projects';
 import { findUserByEmail, insertUser } from '../db/users';
+import { createModelService } from '../services/models';
+import { createProjectService } from '../services/projects';
 
 export const demoPassword = 'fairsheet-demo';
 export const demoBuilder = { email: 'builder@example.com', name: 'Alex Marsh (builder)' };
@@ -21,7 +23,8 @@ export async function seedDemo(db: Db, hasher: PasswordHasher): Promise<boolean>
   const builder = await ensureUser(db, hasher, demoBuilder);
   const checker = await ensureUser(db, hasher, demoChecker);
   if (await findProjectByName(db, demoProjectName)) return builder.created || checker.created;
-  const project = await insertProject(db, builder.user.id, {
+  const projects = createProjectService(db, createModelService(db));
+  const project = await projects.create(builder.user.id, {
     name: demoProjectName,
     displayUnit: 'in',
     modelScale: '1:11.3',

@@ -8,6 +8,7 @@ import type {
 import type { Db } from '../db/client';
 import * as repo from '../db/projects';
 import type { ProjectRow } from '../db/schema';
+import type { ModelService } from './models';
 
 export function toProject(row: ProjectRow, role: ProjectRole): Project {
   return {
@@ -21,7 +22,7 @@ export function toProject(row: ProjectRow, role: ProjectRole): Project {
   };
 }
 
-export function createProjectService(db: Db) {
+export function createProjectService(db: Db, models: ModelService) {
   return {
     async list(userId: string): Promise<Project[]> {
       const rows = await repo.listProjectsOfUser(db, userId);
@@ -29,10 +30,14 @@ export function createProjectService(db: Db) {
     },
 
     async create(userId: string, body: CreateProjectFields): Promise<Project> {
-      const row = await repo.insertProject(db, userId, {
-        name: body.name,
-        displayUnit: body.displayUnit,
-        modelScale: body.modelScale ?? null,
+      const row = await db.transaction(async (tx) => {
+        const project = await repo.insertProject(tx, userId, {
+          name: body.name,
+          displayUnit: body.displayUnit,
+          modelScale: body.modelScale ?? null,
+        });
+        await models.initialise(tx, project.id, project.displayUnit, userId);
+        return project;
       });
       return toProject(row, 'owner');
     },

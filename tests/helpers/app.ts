@@ -52,7 +52,7 @@ export interface TestApp {
 
 /** The real app (createApp) on a real, fresh PostgreSQL database, with a real SMTP sink. */
 export async function createTestApp(
-  options: { clientDir?: string; appUrl?: string } = {},
+  options: { clientDir?: string; appUrl?: string; sessionSecret?: string } = {},
 ): Promise<TestApp> {
   const testDb = await createTestDatabase();
   const database = connect(testDb.url, 5);

@@ -1,0 +1,125 @@
+import { solveModel, type FairsheetModel, type SolveResult } from '@shared/engine';
+import { diffModels, isEmptyDiff, movedValues, summariseDiff } from '@shared/engine/diff';
+import { emptyModel } from '@shared/api';
+import type { Db } from '../db/client';
+import * as repo from '../db/models';
+import { conflict, notFound } from '../http/errors';
+
+/** Server solves have a time cap so one pathological model cannot hold a request. */
+const solveOptions = { timeLimitMs: 2000 };
+
+export interface StoredModel {
+  revision: number;
+  model: FairsheetModel;
+  result: SolveResult;
+  updatedAt: string;
+  updatedBy: string | null;
+}
+
+export function createModelService(db: Db) {
+  /** Writes the first revision of a new project's model, inside the project's transaction. */
+  async function initialise(
+    tx: repo.DbOrTx,
+    projectId: string,
+    units: 'in' | 'mm',
+    userId: string,
+  ) {
+    const model = emptyModel(units);
+    await repo.insertModel(tx, projectId, model, solveModel(model, solveOptions), userId);
+    await repo.insertRevision(tx, {
+      projectId,
+      revision: 0,
+      userId,
+      summary: 'project started',
+      diff: diffModels(model, model),
+      model,
+    });
+  }
+
+  async function current(projectId: string): Promise<StoredModel> {
+    const row = await repo.findModel(db, projectId);
+    if (!row) throw notFound('The model');
+    return {
+      revision: row.revision,
+      model: row.model as FairsheetModel,
+      result: row.result as SolveResult,
+      updatedAt: row.updatedAt.toISOString(),
+      updatedBy: row.updatedBy,
+    };
+  }
+
+  /**
+   * Saves a model based on `baseRevision` in one transaction: refused with 409 (and the current
+   * revision and model) when someone saved first; otherwise solved, diffed and written with a
+   * history entry. Saving an unchanged model writes nothing and answers the same revision.
+   */
+  async function save(
+    projectId: string,
+    userId: string,
+    baseRevision: number,
+    model: FairsheetModel,
+    note?: string,
+  ): Promise<{ revision: number; result: SolveResult; summary: string }> {
+    return db.transaction(async (tx) => {
+      const locked = await repo.lockModel(tx, projectId);
+      if (!locked) throw notFound('The model');
+      if (locked.revision !== baseRevision) {
+        throw conflict(
+          `Someone else saved revision ${locked.revision} after the revision ${baseRevision} you edited.`,
+          { currentRevision: locked.revision, model: locked.model },
+        );
+      }
+      const previous = locked.model as FairsheetModel;
+      const diff = diffModels(previous, model);
+      const result = solveModel(model, solveOptions);
+      if (isEmptyDiff(diff) && !note)
+        return { revision: locked.revision, result, summary: 'no change' };
+      const revision = locked.revision + 1;
+      const summary = note ? `${note} (${summariseDiff(diff)})` : summariseDiff(diff);
+      await repo.writeModel(tx, projectId, { revision, model, result, userId });
+      await repo.insertRevision(tx, { projectId, revision, userId, summary, diff, model });
+      return { revision, result, summary };
+    });
+  }
+
+  async function history(projectId: string) {
+    const rows = await repo.listRevisions(db, projectId);
+    return rows.map((r) => ({
+      revision: r.revision,
+      createdAt: r.createdAt.toISOString(),
+      summary: r.summary,
+      user: r.userId ? { id: r.userId, name: r.userName ?? '' } : null,
+    }));
+  }
+
+  async function revision(projectId: string, revisionNumber: number) {
+    const row = await repo.findRevision(db, projectId, revisionNumber);
+    if (!row) throw notFound(`Revision ${revisionNumber}`);
+    return {
+      revision: row.revision,
+      createdAt: row.createdAt.toISOString(),
+      summary: row.summary,
+      user: row.userId ? { id: row.userId, name: row.userName ?? '' } : null,
+      diff: row.diff,
+      model: row.model as FairsheetModel,
+    };
+  }
+
+  /** What changed from one revision to another, and which solved values moved. */
+  async function compare(projectId: string, from: number, to: number) {
+    const [a, b] = await Promise.all([revision(projectId, from), revision(projectId, to)]);
+    const diff = diffModels(a.model, b.model);
+    const moved = movedValues(solveModel(a.model, solveOptions), solveModel(b.model, solveOptions));
+    return { from, to, diff, moved, summary: summariseDiff(diff, 20) };
+  }
+
+  /** Restores an old revision's model as a new revision (history is never rewritten). */
+  async function restore(projectId: string, userId: string, baseRevision: number, target: number) {
+    const old = await revision(projectId, target);
+    return save(projectId, userId, baseRevision, old.model, `restored revision ${target}`);
+  }
+
+  return { initialise, current, save, history, revision, compare, restore };
+}
+
+export type ModelService = ReturnType<typeof createModelService>;

@@ -1,0 +1,127 @@
+/**
+ * What changed between two models, and which solved values moved: the history entry of a save,
+ * the comparison of two revisions, and the "someone else saved first" view.
+ */
+import type { FairsheetModelInput } from './model';
+import type { SolveResult } from './result';
+
+type DimensionInput = FairsheetModelInput['dimensions'][number];
+type RelationInput = NonNullable<FairsheetModelInput['relations']>[number];
+
+export interface FieldChange {
+  field: string;
+  from: unknown;
+  to: unknown;
+}
+
+export interface ItemChange<T> {
+  key: string;
+  change: 'added' | 'removed' | 'changed';
+  before?: T;
+  after?: T;
+  fields: FieldChange[];
+}
+
+export interface ModelDiff {
+  units?: { from: string; to: string };
+  dimensions: ItemChange<DimensionInput>[];
+  relations: ItemChange<RelationInput>[];
+}
+
+export interface ValueMove {
+  name: string;
+  from: number | null;
+  to: number | null;
+  /** to − from; null when either side is unknown. */
+  delta: number | null;
+}
+
+function fieldChanges(before: object, after: object): FieldChange[] {
+  const a = before as Record<string, unknown>;
+  const b = after as Record<string, unknown>;
+  const keys = [...new Set([...Object.keys(a), ...Object.keys(b)])].sort();
+  return keys
+    .filter((k) => JSON.stringify(a[k]) !== JSON.stringify(b[k]))
+    .map((k) => ({ field: k, from: a[k], to: b[k] }));
+}
+
+function diffBy<T extends object>(before: T[], after: T[], key: (item: T) => string): ItemChange<T>[] {
+  const old = new Map(before.map((item) => [key(item), item]));
+  const now = new Map(after.map((item) => [key(item), item]));
+  const changes: ItemChange<T>[] = [];
+  for (const [k, item] of old) {
+    if (!now.has(k)) changes.push({ key: k, change: 'removed', before: item, fields: [] });
+  }
+  for (const [k, item] of now) {
+    const prior = old.get(k);
+    if (!prior) changes.push({ key: k, change: 'added', after: item, fields: [] });
+    else {
+      const fields = fieldChanges(prior, item);
+      if (fields.length) changes.push({ key: k, change: 'changed', before: prior, after: item, fields });
+    }
+  }
+  return changes;
+}
+
+/**
+ * Dimensions are matched by name and relations by id.
+ *
+ * @example diffModels(a, b).dimensions // [{ key: 'overall', change: 'changed', fields: [{ field: 'value', from: '6 1/4', to: '6 3/8' }] }]
+ */
+export function diffModels(before: FairsheetModelInput, after: FairsheetModelInput): ModelDiff {
+  return {
+    ...(before.units !== after.units ? { units: { from: before.units, to: after.units } } : {}),
+    dimensions: diffBy(before.dimensions, after.dimensions, (d) => d.name),
+    relations: diffBy(before.relations ?? [], after.relations ?? [], (r) => r.id),
+  };
+}
+
+export function isEmptyDiff(diff: ModelDiff): boolean {
+  return !diff.units && diff.dimensions.length === 0 && diff.relations.length === 0;
+}
+
+const show = (v: unknown) => (v === undefined ? '—' : typeof v === 'string' ? v : JSON.stringify(v));
+
+/**
+ * One line for a history list, e.g. "overall 6 1/4 → 6 3/8; added slot; r2 edited".
+ *
+ * @example summariseDiff(diffModels(a, b)) // 'overall value 6 1/4 → 6 3/8'
+ */
+export function summariseDiff(diff: ModelDiff, limit = 4): string {
+  const parts: string[] = [];
+  if (diff.units) parts.push(`units ${diff.units.from} → ${diff.units.to}`);
+  for (const d of diff.dimensions) {
+    if (d.change === 'added') parts.push(`added ${d.key}`);
+    else if (d.change === 'removed') parts.push(`removed ${d.key}`);
+    else {
+      const f = d.fields[0];
+      parts.push(
+        d.fields.length === 1 ? `${d.key} ${f.field} ${show(f.from)} → ${show(f.to)}` : `${d.key} edited`,
+      );
+    }
+  }
+  for (const r of diff.relations) {
+    parts.push(r.change === 'changed' ? `relation ${r.key} edited` : `${r.change} relation ${r.key}`);
+  }
+  if (!parts.length) return 'no change';
+  const shown = parts.slice(0, limit).join('; ');
+  return parts.length > limit ? `${shown}; and ${parts.length - limit} more` : shown;
+}
+
+/**
+ * Solved values whose value differs between two results by more than `tolerance`.
+ *
+ * @example movedValues(before, after) // [{ name: 'slot', from: 2.5, to: 2.625, delta: 0.125 }]
+ */
+export function movedValues(before: SolveResult, after: SolveResult, tolerance = 1e-9): ValueMove[] {
+  const names = [...new Set([...Object.keys(before.values), ...Object.keys(after.values)])].sort();
+  const moves: ValueMove[] = [];
+  for (const name of names) {
+    const a = before.values[name]?.value ?? null;
+    const b = after.values[name]?.value ?? null;
+    if (a === null && b === null) continue;
+    if (a !== null && b !== null && Math.abs(a - b) <= tolerance) continue;
+    moves.push({ name, from: a, to: b, delta: a !== null && b !== null ? b - a : null });
+  }
+  return moves;
+}

@@ -1,0 +1,180 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { upsertMembership } from '../../server/db/projects';
+import { createTestApp, TestClient, type TestApp } from '../helpers/app';
+
+let t: TestApp;
+let owner: TestClient;
+let editor: TestClient;
+let viewer: TestClient;
+let stranger: TestClient;
+let projectId: string;
+
+// A chain that derives the slot: overall = boss + slot + web (inch model).
+const chain = {
+  format: 'fairsheet.model',
+  version: 1,
+  units: 'in',
+  dimensions: [
+    { name: 'overall', kind: 'stated', value: '6 1/4', tol: '0.005' },
+    { name: 'boss', kind: 'stated', value: '0.750', tol: '0.002' },
+    { name: 'web', kind: 'stated', value: '1 1/2', tol: '0.003' },
+    { name: 'slot', kind: 'derived' },
+  ],
+  relations: [{ id: 'r1', expr: 'overall = boss + slot + web' }],
+};
+
+beforeAll(async () => {
+  t = await createTestApp();
+  owner = new TestClient(t.app);
+  editor = new TestClient(t.app);
+  viewer = new TestClient(t.app);
+  stranger = new TestClient(t.app);
+  await owner.register('m.owner@example.com');
+  const e = await editor.register('m.editor@example.com');
+  const v = await viewer.register('m.viewer@example.com');
+  await stranger.register('m.stranger@example.com');
+  projectId = (
+    await owner.post('/api/projects', { name: 'Model tests', displayUnit: 'in' }).expect(201)
+  ).body.id;
+  await upsertMembership(t.database.db, projectId, e.id, 'editor');
+  await upsertMembership(t.database.db, projectId, v.id, 'viewer');
+});
+afterAll(() => t.close());
+
+const url = (path = '') => `/api/projects/${projectId}${path}`;
+
+describe('the model and its revisions', () => {
+  it('a new project has an empty model at revision 0 in its display unit', async () => {
+    const res = await viewer.get(url('/model')).expect(200);
+    expect(res.body.revision).toBe(0);
+    expect(res.body.model).toMatchObject({
+      format: 'fairsheet.model',
+      version: 1,
+      units: 'in',
+      dimensions: [],
+    });
+    expect(res.body.result.status).toBe('solved');
+  });
+
+  it('PUT saves, answers the next revision with the server solve, and GET returns it', async () => {
+    const res = await owner.put(url('/model'), { revision: 0, model: chain }).expect(200);
+    expect(res.body.revision).toBe(1);
+    // 6.25 − 0.75 − 1.5 = 4.0; worst case 0.005 + 0.002 + 0.003 = 0.010 (arithmetic of the chain).
+    expect(res.body.result.values.slot.value).toBeCloseTo(4.0, 9);
+    expect(res.body.result.values.slot.worstCase).toBeCloseTo(0.01, 9);
+    const got = await viewer.get(url('/model')).expect(200);
+    expect(got.body.revision).toBe(1);
+    expect(got.body.model.dimensions).toHaveLength(4);
+    expect(got.body.updatedBy).toBe('Test Builder');
+  });
+
+  it('a save based on a stale revision gets 409 with the current revision, and changes nothing', async () => {
+    const current = (await owner.get(url('/model'))).body;
+    const mine = structuredClone(current.model);
+    mine.dimensions[0].value = '6 3/8';
+    await editor.put(url('/model'), { revision: current.revision, model: mine }).expect(200);
+
+    const theirs = structuredClone(current.model);
+    theirs.dimensions[1].value = '0.800';
+    const res = await owner.put(url('/model'), { revision: current.revision, model: theirs });
+    expect(res.status).toBe(409);
+    expect(res.body.error.code).toBe('conflict');
+    expect(res.body.error.details.currentRevision).toBe(current.revision + 1);
+    expect(res.body.error.details.model.dimensions[0].value).toBe('6 3/8');
+    const after = (await owner.get(url('/model'))).body;
+    expect(after.model.dimensions[1].value).toBe('0.750');
+  });
+
+  it('an invalid model is refused with 400 naming the fields, and changes nothing', async () => {
+    const before = (await owner.get(url('/model'))).body;
+    const bad = { ...chain, dimensions: [{ name: '1st', kind: 'stated' }] };
+    const res = await owner.put(url('/model'), { revision: before.revision, model: bad });
+    expect(res.status).toBe(400);
+    const paths = res.body.error.details.fields.map((f: { path: string }) => f.path);
+    expect(paths.some((p: string) => p.startsWith('model.dimensions.0'))).toBe(true);
+    expect((await owner.get(url('/model'))).body.revision).toBe(before.revision);
+  });
+
+  it('a model with a broken relation still saves, and its result names the error', async () => {
+    const before = (await owner.get(url('/model'))).body;
+    const model = structuredClone(before.model);
+    model.relations.push({ id: 'r2', expr: 'overall = boss + nosuch' });
+    const res = await owner.put(url('/model'), { revision: before.revision, model }).expect(200);
+    expect(res.body.result.status).toBe('invalid');
+    expect(JSON.stringify(res.body.result.errors)).toMatch(/nosuch/);
+    model.relations.pop();
+    await owner.put(url('/model'), { revision: res.body.revision, model }).expect(200);
+  });
+
+  it('viewers cannot save (403) and strangers see nothing (404)', async () => {
+    const current = (await owner.get(url('/model'))).body;
+    expect(
+      (await viewer.put(url('/model'), { revision: current.revision, model: chain })).status,
+    ).toBe(403);
+    expect((await stranger.get(url('/model'))).status).toBe(404);
+    expect((await stranger.get(url('/history'))).status).toBe(404);
+  });
+});
+
+describe('history, compare and restore', () => {
+  it('every save is in the history with who and a summary', async () => {
+    const res = await viewer.get(url('/history')).expect(200);
+    const entries = res.body.entries as {
+      revision: number;
+      summary: string;
+      user: { name: string } | null;
+    }[];
+    expect(entries[0].revision).toBe((await owner.get(url('/model'))).body.revision);
+    expect(entries.at(-1)!.revision).toBe(0);
+    const second = entries.find((e) => e.revision === 2)!;
+    expect(second.summary).toContain('overall value 6 1/4 → 6 3/8');
+  });
+
+  it('GET /history/:revision answers that revision with its model and diff', async () => {
+    const res = await viewer.get(url('/history/1')).expect(200);
+    expect(res.body.model.dimensions.map((d: { name: string }) => d.name)).toEqual([
+      'overall',
+      'boss',
+      'web',
+      'slot',
+    ]);
+    expect(res.body.diff.dimensions.every((d: { change: string }) => d.change === 'added')).toBe(
+      true,
+    );
+    expect((await viewer.get(url('/history/999'))).status).toBe(404);
+  });
+
+  it('compare names the changed value and the derived value that moved', async () => {
+    const res = await viewer.get(url('/compare?from=1&to=2')).expect(200);
+    expect(res.body.diff.dimensions).toHaveLength(1);
+    expect(res.body.diff.dimensions[0]).toMatchObject({ key: 'overall', change: 'changed' });
+    const slot = res.body.moved.find((m: { name: string }) => m.name === 'slot');
+    // 6 3/8 − 6 1/4 = 1/8 in more slot.
+    expect(slot.delta).toBeCloseTo(0.125, 9);
+  });
+
+  it('compare refuses a missing revision number with 400', async () => {
+    expect((await viewer.get(url('/compare?from=1'))).status).toBe(400);
+  });
+
+  it('restore brings back an old model as a new revision', async () => {
+    const current = (await owner.get(url('/model'))).body;
+    const res = await owner
+      .post(url('/history/1/restore'), { revision: current.revision })
+      .expect(200);
+    expect(res.body.revision).toBe(current.revision + 1);
+    expect(res.body.summary).toMatch(/restored revision 1/);
+    const now = (await owner.get(url('/model'))).body;
+    expect(now.model.dimensions[0].value).toBe('6 1/4');
+    expect(res.body.result.values.slot.value).toBeCloseTo(4.0, 9);
+  });
+
+  it('export answers the model file as a download', async () => {
+    const res = await viewer.get(url('/model/export')).expect(200);
+    expect(res.headers['content-disposition']).toMatch(
+      /attachment; filename="?Model-tests-r\d+\.json"?/,
+    );
+    const file = JSON.parse(res.text);
+    expect(file.format).toBe('fairsheet.model');
+  });
+});
