@@ -8,6 +8,7 @@ import { errorHandler, notFound } from './http/errors';
 import type { Mailer } from './mail/mailer';
 import { authRoutes } from './routes/auth';
 import { devMailRoutes } from './routes/dev-mail';
+import { engineRoutes } from './routes/engine';
 import { healthRoutes } from './routes/health';
 import { modelRoutes } from './routes/models';
 import { projectRoutes } from './routes/projects';
@@ -57,6 +58,7 @@ export function createApp(deps: AppDeps): Express {
   api.use(sessionMiddleware({ pool, secret: deps.sessionSecret, secure: deps.production }));
   api.use(requireCsrf);
   api.use('/auth', authRoutes(db, auth));
+  api.use(engineRoutes(db));
   api.use('/projects', requireUser, projectRoutes(db, projects), modelRoutes(db, models));
   api.use(() => {
     throw notFound('That API route');

@@ -2,3 +2,4 @@ export * from './auth';
 export * from './projects';
 export * from './errors';
 export * from './models';
+export * from './engine';

@@ -23,5 +23,11 @@ export const restoreBody = z.object({ revision: revisionNumber });
 
 /** The empty model a new project starts with. */
 export function emptyModel(units: 'in' | 'mm') {
-  return { format: 'fairsheet.model' as const, version: 1 as const, units, dimensions: [], relations: [] };
+  return {
+    format: 'fairsheet.model' as const,
+    version: 1 as const,
+    units,
+    dimensions: [],
+    relations: [],
+  };
 }
