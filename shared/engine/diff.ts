@@ -45,7 +45,11 @@ function fieldChanges(before: object, after: object): FieldChange[] {
     .map((k) => ({ field: k, from: a[k], to: b[k] }));
 }
 
-function diffBy<T extends object>(before: T[], after: T[], key: (item: T) => string): ItemChange<T>[] {
+function diffBy<T extends object>(
+  before: T[],
+  after: T[],
+  key: (item: T) => string,
+): ItemChange<T>[] {
   const old = new Map(before.map((item) => [key(item), item]));
   const now = new Map(after.map((item) => [key(item), item]));
   const changes: ItemChange<T>[] = [];
@@ -57,7 +61,8 @@ function diffBy<T extends object>(before: T[], after: T[], key: (item: T) => str
     if (!prior) changes.push({ key: k, change: 'added', after: item, fields: [] });
     else {
       const fields = fieldChanges(prior, item);
-      if (fields.length) changes.push({ key: k, change: 'changed', before: prior, after: item, fields });
+      if (fields.length)
+        changes.push({ key: k, change: 'changed', before: prior, after: item, fields });
     }
   }
   return changes;
@@ -80,7 +85,8 @@ export function isEmptyDiff(diff: ModelDiff): boolean {
   return !diff.units && diff.dimensions.length === 0 && diff.relations.length === 0;
 }
 
-const show = (v: unknown) => (v === undefined ? '—' : typeof v === 'string' ? v : JSON.stringify(v));
+const show = (v: unknown) =>
+  v === undefined ? '—' : typeof v === 'string' ? v : JSON.stringify(v);
 
 /**
  * One line for a history list, e.g. "overall 6 1/4 → 6 3/8; added slot; r2 edited".
@@ -96,12 +102,16 @@ export function summariseDiff(diff: ModelDiff, limit = 4): string {
     else {
       const f = d.fields[0];
       parts.push(
-        d.fields.length === 1 ? `${d.key} ${f.field} ${show(f.from)} → ${show(f.to)}` : `${d.key} edited`,
+        d.fields.length === 1
+          ? `${d.key} ${f.field} ${show(f.from)} → ${show(f.to)}`
+          : `${d.key} edited`,
       );
     }
   }
   for (const r of diff.relations) {
-    parts.push(r.change === 'changed' ? `relation ${r.key} edited` : `${r.change} relation ${r.key}`);
+    parts.push(
+      r.change === 'changed' ? `relation ${r.key} edited` : `${r.change} relation ${r.key}`,
+    );
   }
   if (!parts.length) return 'no change';
   const shown = parts.slice(0, limit).join('; ');
@@ -113,7 +123,11 @@ export function summariseDiff(diff: ModelDiff, limit = 4): string {
  *
  * @example movedValues(before, after) // [{ name: 'slot', from: 2.5, to: 2.625, delta: 0.125 }]
  */
-export function movedValues(before: SolveResult, after: SolveResult, tolerance = 1e-9): ValueMove[] {
+export function movedValues(
+  before: SolveResult,
+  after: SolveResult,
+  tolerance = 1e-9,
+): ValueMove[] {
   const names = [...new Set([...Object.keys(before.values), ...Object.keys(after.values)])].sort();
   const moves: ValueMove[] = [];
   for (const name of names) {
@@ -124,4 +138,46 @@ export function movedValues(before: SolveResult, after: SolveResult, tolerance =
     moves.push({ name, from: a, to: b, delta: a !== null && b !== null ? b - a : null });
   }
   return moves;
+}
+
+function applyBy<T extends object>(
+  items: T[],
+  changes: ItemChange<T>[],
+  key: (item: T) => string,
+): T[] {
+  const out = items.map((item) => ({ ...item }));
+  for (const c of changes) {
+    const at = out.findIndex((item) => key(item) === c.key);
+    if (c.change === 'removed') {
+      if (at >= 0) out.splice(at, 1);
+    } else if (c.change === 'added') {
+      if (at >= 0) out[at] = { ...c.after! };
+      else out.push({ ...c.after! });
+    } else if (at >= 0) {
+      const target = out[at] as Record<string, unknown>;
+      for (const f of c.fields) {
+        if (f.to === undefined) delete target[f.field];
+        else target[f.field] = f.to;
+      }
+    } else {
+      out.push({ ...c.after! });
+    }
+  }
+  return out;
+}
+
+/**
+ * Replays a diff onto another model: how an edit made against an old revision is re-applied
+ * on top of someone else's newer save. Field-level, so edits to different fields of the same
+ * dimension both survive; where both changed one field, the replayed edit wins.
+ *
+ * @example applyDiff(theirs, diffModels(base, mine))
+ */
+export function applyDiff(model: FairsheetModelInput, diff: ModelDiff): FairsheetModelInput {
+  return {
+    ...model,
+    ...(diff.units ? { units: diff.units.to as FairsheetModelInput['units'] } : {}),
+    dimensions: applyBy(model.dimensions, diff.dimensions, (d) => d.name),
+    relations: applyBy(model.relations ?? [], diff.relations, (r) => r.id),
+  };
 }

@@ -1,0 +1,101 @@
+/**
+ * Fairsheet engine: the public surface. Pure TypeScript, no I/O; runs in the browser and on
+ * the server with the same answers. See README.md in this folder.
+ */
+export { nearlyEqual, NUMERIC_TOLERANCE, factorDense, factorSparse, factorRows } from './numeric';
+export type { LinearFactor, SparseRow } from './numeric';
+export {
+  parseQuantity,
+  quantityIn,
+  convertLength,
+  nearestFraction,
+  formatFraction,
+  formatLength,
+  suggestNominal,
+  QuantityError,
+} from './quantity';
+export type {
+  Quantity,
+  QuantityUnit,
+  LengthUnit,
+  ModelUnit,
+  WrittenForm,
+  NearestFraction,
+  NominalSuggestion,
+} from './quantity';
+export {
+  parseRelation,
+  parseExpression,
+  bindRelation,
+  clearRelationCache,
+  ExpressionError,
+  RESERVED_NAMES,
+  sinDeg,
+  cosDeg,
+} from './expression';
+export type {
+  ExprNode,
+  ParsedRelation,
+  CompiledRelation,
+  ExpressionErrorCode,
+  SymbolInfo,
+  UnitSymbol,
+  FunctionName,
+} from './expression';
+export {
+  modelSchema,
+  dimensionSchema,
+  relationSchema,
+  toleranceDefaultsSchema,
+  toleranceDefaults,
+  impliedTolerance,
+  scaledTolerance,
+  DIMENSION_NAME,
+} from './model';
+export type {
+  FairsheetModel,
+  FairsheetModelInput,
+  ModelDimension,
+  ModelRelation,
+  ToleranceDefaults,
+  DimensionKind,
+  QuantityKind,
+} from './model';
+export { analyseStructure, maximumMatching } from './structure';
+export type { StructureResult, StructureBlock, UnderdeterminedPart } from './structure';
+export { solveModel, solvePrepared, prepareModel } from './solve';
+export type { SolveOptions, PreparedModel, PreparedDimension, PreparedRelation } from './solve';
+export { reconcileRedundant } from './reconcile';
+export type { RedundantRelation, ReconcileInput } from './reconcile';
+export {
+  propagateSensitivities,
+  totalDerivative,
+  stackUp,
+  runMonteCarlo,
+  mulberry32,
+  normalSampler,
+} from './stackup';
+export type { Sensitivity, StackUp, StackUpTerm, MonteCarloInput } from './stackup';
+export type {
+  SolveResult,
+  SolveStatus,
+  ValueResult,
+  ValueTrace,
+  Contributor,
+  Contradiction,
+  Check,
+  Suspect,
+  OpenGroup,
+  EngineError,
+  EngineErrorCode,
+  MonteCarloResult,
+  MonteCarloValue,
+} from './result';
+
+export { diffModels, isEmptyDiff, summariseDiff, movedValues, applyDiff } from './diff';
+export type { ModelDiff, ItemChange, FieldChange, ValueMove } from './diff';
+
+export * from './calibrate';
+export * from './threads';
+export * from './drills';
+export * from './shop-math';

@@ -1,0 +1,176 @@
+/**
+ * The model format v1 (also the project export format) as a zod schema, and the implied
+ * tolerance rules that give a tolerance to a value written without one.
+ */
+import { z } from 'zod';
+import { quantityIn, type ModelUnit, type Quantity } from './quantity';
+
+/** Dimension names are plain identifiers; qualification by part may come later. */
+export const DIMENSION_NAME = /^[A-Za-z_][A-Za-z0-9_]*$/;
+
+/** A value: a number in the model unit, or a written quantity such as `1 3/16"` or `3.175 mm`. */
+const valueSchema = z.union([z.number().finite(), z.string().trim().min(1, 'value is empty')]);
+
+const quantityKind = z.enum(['length', 'angle', 'count']);
+
+const common = {
+  name: z
+    .string()
+    .regex(DIMENSION_NAME, 'a name is a letter or _ followed by letters, digits or _'),
+  quantity: quantityKind.default('length'),
+  label: z.string().optional(),
+  part: z.string().optional(),
+  note: z.string().optional(),
+  sheet: z.string().optional(),
+};
+
+const givenKinds = ['stated', 'scaled', 'assumed', 'asbuilt'] as const;
+
+const givenDimension = z
+  .object({
+    ...common,
+    kind: z.enum(givenKinds),
+    value: valueSchema,
+    tol: valueSchema.optional(),
+    tolMinus: valueSchema.optional(),
+    tolPlus: valueSchema.optional(),
+  })
+  .refine((d) => !(d.tol !== undefined && (d.tolMinus !== undefined || d.tolPlus !== undefined)), {
+    message: 'give either tol or tolMinus/tolPlus, not both',
+  })
+  .refine((d) => (d.tolMinus === undefined) === (d.tolPlus === undefined), {
+    message: 'tolMinus and tolPlus go together',
+  });
+
+const derivedDimension = z.object({
+  ...common,
+  kind: z.literal('derived'),
+  /** Starting point for a non-linear block (picks which root, e.g. which side of a circle). */
+  guess: valueSchema.optional(),
+});
+
+// A discriminated union reads a large model several times faster than a plain union.
+export const dimensionSchema = z.discriminatedUnion('kind', [givenDimension, derivedDimension]);
+
+export const relationSchema = z.object({
+  id: z.string().min(1, 'a relation needs an id'),
+  expr: z.string(),
+  enabled: z.boolean().default(true),
+  note: z.string().optional(),
+});
+
+/**
+ * Implied tolerances for values written without one. Editable per project.
+ * Inch rules are common title-block practice (no published source). Millimetre rules are
+ * ISO 2768-1 class m (medium) linear tolerances by nominal size, recalled from memory, not
+ * checked against the standard. A scaled value is as good as the print and the ruler:
+ * 0.5 % of its length, at least 0.5 mm (our choice). An assumed value is exact (0): the
+ * builder chose it, so it carries no drawing uncertainty unless a tolerance is given.
+ */
+export const toleranceDefaultsSchema = z.object({
+  inchFraction: z
+    .number()
+    .nonnegative()
+    .default(1 / 64),
+  /** By places after the point: [1-place, 2-place, 3-place, 4-place]. */
+  inchDecimal: z.array(z.number().nonnegative()).length(4).default([0.1, 0.01, 0.005, 0.0005]),
+  /** ISO 2768-1 m: ascending `upTo` (mm) with its ± tolerance (mm). */
+  mmRanges: z
+    .array(z.object({ upTo: z.number().positive(), tol: z.number().nonnegative() }))
+    .min(1)
+    .default([
+      { upTo: 6, tol: 0.1 },
+      { upTo: 30, tol: 0.2 },
+      { upTo: 120, tol: 0.3 },
+      { upTo: 400, tol: 0.5 },
+      { upTo: 1000, tol: 0.8 },
+      { upTo: 2000, tol: 1.2 },
+      { upTo: 4000, tol: 2 },
+    ]),
+  angleDeg: z.number().nonnegative().default(0.5),
+  scaledFraction: z.number().nonnegative().default(0.005),
+  scaledMinMm: z.number().nonnegative().default(0.5),
+  assumed: z.number().nonnegative().default(0),
+});
+
+export const modelSchema = z.object({
+  format: z.literal('fairsheet.model'),
+  version: z.literal(1),
+  units: z.enum(['in', 'mm']),
+  dimensions: z.array(dimensionSchema),
+  relations: z.array(relationSchema).default([]),
+  defaults: toleranceDefaultsSchema.partial().optional(),
+});
+
+/** A model as read (defaults filled in). */
+export type FairsheetModel = z.infer<typeof modelSchema>;
+/** A model as written (optional fields may be missing). */
+export type FairsheetModelInput = z.input<typeof modelSchema>;
+export type ModelDimension = z.infer<typeof dimensionSchema>;
+export type ModelRelation = z.infer<typeof relationSchema>;
+export type ToleranceDefaults = z.infer<typeof toleranceDefaultsSchema>;
+export type DimensionKind = ModelDimension['kind'];
+export type QuantityKind = z.infer<typeof quantityKind>;
+
+/**
+ * The full defaults table, with a model's overrides applied.
+ *
+ * @example toleranceDefaults({ angleDeg: 1 }).inchFraction // 0.015625
+ */
+export function toleranceDefaults(overrides?: Partial<ToleranceDefaults>): ToleranceDefaults {
+  return toleranceDefaultsSchema.parse(overrides ?? {});
+}
+
+/**
+ * The tolerance a stated value carries from how it is written, in the model unit (degrees for
+ * angles). Inch-family values use the inch table, millimetre-family values the ISO 2768-m
+ * table, a plain number the table of the model unit. Thou count as inch decimals
+ * (15 thou = 0.015, three places). Whole inches take the fraction rule; beyond four places the
+ * decimal rule continues as 5·10⁻ⁿ (our extension of the table).
+ *
+ * @example impliedTolerance(parseQuantity('3/16'), 'length', 'in', toleranceDefaults()) // 0.015625
+ * @example impliedTolerance(parseQuantity('0.750'), 'length', 'in', toleranceDefaults()) // 0.005
+ * @example impliedTolerance(parseQuantity('25 mm'), 'length', 'mm', toleranceDefaults()) // 0.2
+ */
+export function impliedTolerance(
+  q: Quantity,
+  quantity: QuantityKind,
+  unit: ModelUnit,
+  defaults: ToleranceDefaults,
+): number {
+  if (quantity === 'count') return 0;
+  if (quantity === 'angle') return defaults.angleDeg;
+  const family: ModelUnit = q.exact.base === 'plain' ? unit : q.exact.base === 'mm' ? 'mm' : 'in';
+  if (family === 'in') {
+    let tolIn: number;
+    if (q.form === 'decimal' || q.unit === 'thou') {
+      const places = q.decimals + (q.unit === 'thou' ? 3 : 0);
+      if (places === 0) tolIn = defaults.inchFraction;
+      else if (places <= 4) tolIn = defaults.inchDecimal[places - 1];
+      else tolIn = 5 * 10 ** -places;
+    } else if (q.form === 'feet-inches' && q.decimals > 0) {
+      tolIn = q.decimals <= 4 ? defaults.inchDecimal[q.decimals - 1] : 5 * 10 ** -q.decimals;
+    } else {
+      tolIn = defaults.inchFraction;
+    }
+    return unit === 'in' ? tolIn : tolIn * 25.4;
+  }
+  const mm = Math.abs(quantityIn(q, 'mm'));
+  const ranges = defaults.mmRanges;
+  const row = ranges.find((r) => mm <= r.upTo) ?? ranges[ranges.length - 1];
+  return unit === 'mm' ? row.tol : row.tol / 25.4;
+}
+
+/**
+ * The tolerance of a scaled value with none given: a fraction of its length, with a floor.
+ *
+ * @example scaledTolerance(100, 'mm', toleranceDefaults()) // 0.5
+ */
+export function scaledTolerance(
+  value: number,
+  unit: ModelUnit,
+  defaults: ToleranceDefaults,
+): number {
+  const floor = unit === 'mm' ? defaults.scaledMinMm : defaults.scaledMinMm / 25.4;
+  return Math.max(Math.abs(value) * defaults.scaledFraction, floor);
+}

@@ -1,0 +1,476 @@
+/**
+ * Quantities as written on old drawings: fractional and decimal inches, thou, feet and inches,
+ * millimetres, centimetres and degrees. Parsing keeps how the value was written (fraction or
+ * decimal, how many places) because that is what sets its implied tolerance.
+ *
+ * Exactness: 1 in = 25.4 mm exactly (international yard and pound agreement, 1959; NIST SP 811).
+ * Values are kept as a rational in the unit they were written in, and converted with a single
+ * division, so 1/8 in gives 3.175 mm and 0.015 in gives 0.381 mm, correctly rounded.
+ */
+
+export type LengthUnit = 'in' | 'ft' | 'thou' | 'mm' | 'cm';
+export type QuantityUnit = LengthUnit | 'deg';
+/** The unit a model works in. */
+export type ModelUnit = 'in' | 'mm';
+
+/** How the number was written: it decides the implied tolerance. */
+export type WrittenForm =
+  'integer' | 'decimal' | 'fraction' | 'mixed' | 'feet-inches' | 'deg-min-sec';
+
+export interface Quantity {
+  /** `plain` is a number with no unit: it takes the model unit (or degrees for an angle). */
+  dimension: 'length' | 'angle' | 'plain';
+  unit: QuantityUnit | null;
+  /** Millimetres for a length, degrees for an angle, the number itself for a plain number. */
+  value: number;
+  /** The exact value as num/den in the base of its family: inches, millimetres, degrees or plain. */
+  exact: { num: number; den: number; base: 'in' | 'mm' | 'deg' | 'plain' };
+  form: WrittenForm;
+  /** Digits after the decimal point as written (of the last number, e.g. the inches of 2' 6.5"). */
+  decimals: number;
+  /** Denominator as written, for fractions. */
+  denominator?: number;
+}
+
+/** A quantity that cannot be read, with the character offset where reading failed. */
+export class QuantityError extends Error {
+  constructor(
+    message: string,
+    readonly at: number,
+  ) {
+    super(message);
+    this.name = 'QuantityError';
+  }
+}
+
+const UNIT_WORDS: Record<string, QuantityUnit> = {
+  in: 'in',
+  inch: 'in',
+  inches: 'in',
+  '"': 'in',
+  ft: 'ft',
+  foot: 'ft',
+  feet: 'ft',
+  "'": 'ft',
+  thou: 'thou',
+  mil: 'thou',
+  mils: 'thou',
+  mm: 'mm',
+  cm: 'cm',
+  deg: 'deg',
+  degree: 'deg',
+  degrees: 'deg',
+  '°': 'deg',
+};
+
+/** Each unit as an exact rational multiple of its family's base (inch, millimetre, degree). */
+const UNIT_FACTOR: Record<QuantityUnit, { num: number; den: number; base: 'in' | 'mm' | 'deg' }> = {
+  in: { num: 1, den: 1, base: 'in' },
+  ft: { num: 12, den: 1, base: 'in' },
+  thou: { num: 1, den: 1000, base: 'in' },
+  mm: { num: 1, den: 1, base: 'mm' },
+  cm: { num: 10, den: 1, base: 'mm' },
+  deg: { num: 1, den: 1, base: 'deg' },
+};
+
+interface Rational {
+  num: number;
+  den: number;
+}
+
+function gcd(a: number, b: number): number {
+  a = Math.abs(a);
+  b = Math.abs(b);
+  while (b) [a, b] = [b, a % b];
+  return a || 1;
+}
+
+function reduce(num: number, den: number): Rational {
+  if (!Number.isSafeInteger(num) || !Number.isSafeInteger(den)) return { num: num / den, den: 1 };
+  const g = gcd(num, den);
+  return { num: num / g, den: den / g };
+}
+
+function add(a: Rational, b: Rational): Rational {
+  return reduce(a.num * b.den + b.num * a.den, a.den * b.den);
+}
+
+function mul(a: Rational, b: Rational): Rational {
+  return reduce(a.num * b.num, a.den * b.den);
+}
+
+/** num/den with one rounding; falls back to float arithmetic if the integers got too large. */
+function ratioToNumber(num: number, den: number): number {
+  return num / den;
+}
+
+interface NumberPart {
+  r: Rational;
+  form: 'integer' | 'decimal' | 'fraction' | 'mixed';
+  decimals: number;
+  denominator?: number;
+  end: number;
+}
+
+const DECIMAL_RE = /\d+\.?\d*|\.\d+/y;
+const INTEGER_RE = /\d+/y;
+
+class Scanner {
+  pos = 0;
+  constructor(readonly s: string) {}
+  spaces(): void {
+    while (this.pos < this.s.length && /\s/.test(this.s[this.pos])) this.pos++;
+  }
+  peek(): string {
+    return this.s[this.pos] ?? '';
+  }
+  atEnd(): boolean {
+    return this.pos >= this.s.length;
+  }
+  /** Reads digits with an optional decimal point; null if none here. */
+  decimal(): { text: string; at: number } | null {
+    DECIMAL_RE.lastIndex = this.pos;
+    const m = DECIMAL_RE.exec(this.s);
+    if (!m) return null;
+    const at = this.pos;
+    this.pos += m[0].length;
+    return { text: m[0], at };
+  }
+  integer(): { value: number; at: number } | null {
+    INTEGER_RE.lastIndex = this.pos;
+    const m = INTEGER_RE.exec(this.s);
+    if (!m) return null;
+    const at = this.pos;
+    this.pos += m[0].length;
+    return { value: Number(m[0]), at };
+  }
+}
+
+function decimalToRational(text: string): { r: Rational; decimals: number } {
+  const [whole, frac = ''] = text.split('.');
+  const digits = (whole || '0') + frac;
+  const den = 10 ** frac.length;
+  const num = Number(digits);
+  return { r: reduce(num, den), decimals: frac.length };
+}
+
+/** Reads `3`, `0.015`, `3/16`, `1 3/16` or `1-3/16` starting at the scanner position. */
+function readNumberPart(sc: Scanner): NumberPart {
+  const first = sc.decimal();
+  if (!first)
+    throw new QuantityError(
+      sc.atEnd() ? 'expected a number' : `expected a number, found '${sc.peek()}'`,
+      sc.pos,
+    );
+  const isInteger = !first.text.includes('.');
+  const afterFirst = sc.pos;
+  if (isInteger) {
+    // Fraction: 3/16
+    sc.spaces();
+    if (sc.peek() === '/') {
+      sc.pos++;
+      sc.spaces();
+      const den = sc.integer();
+      if (!den || den.value === 0)
+        throw new QuantityError(
+          'a fraction needs a whole denominator greater than 0',
+          den?.at ?? sc.pos,
+        );
+      const num = Number(first.text);
+      return {
+        r: reduce(num, den.value),
+        form: 'fraction',
+        decimals: 0,
+        denominator: den.value,
+        end: sc.pos,
+      };
+    }
+    // Mixed number: 1 3/16 or 1-3/16 (a hyphen joins whole and fraction in drawing practice).
+    sc.pos = afterFirst;
+    const save = sc.pos;
+    sc.spaces();
+    let joined = sc.pos > save;
+    if (sc.peek() === '-') {
+      sc.pos++;
+      sc.spaces();
+      joined = true;
+    }
+    if (joined) {
+      const m = /^(\d+)\s*\/\s*(\d+)/.exec(sc.s.slice(sc.pos));
+      if (m) {
+        const denAt = sc.pos + m[0].length - m[2].length;
+        const den = Number(m[2]);
+        if (den === 0)
+          throw new QuantityError('a fraction needs a whole denominator greater than 0', denAt);
+        sc.pos += m[0].length;
+        const whole = Number(first.text);
+        return {
+          r: add({ num: whole, den: 1 }, reduce(Number(m[1]), den)),
+          form: 'mixed',
+          decimals: 0,
+          denominator: den,
+          end: sc.pos,
+        };
+      }
+    }
+    sc.pos = afterFirst;
+    return { r: { num: Number(first.text), den: 1 }, form: 'integer', decimals: 0, end: sc.pos };
+  }
+  const { r, decimals } = decimalToRational(first.text);
+  return { r, form: 'decimal', decimals, end: sc.pos };
+}
+
+/** Reads a unit word or mark at the scanner position; null if there is none. */
+function readUnit(sc: Scanner): { unit: QuantityUnit; at: number } | null {
+  const save = sc.pos;
+  sc.spaces();
+  const at = sc.pos;
+  const c = sc.peek();
+  if (c === '"' || c === "'" || c === '°') {
+    sc.pos++;
+    return { unit: UNIT_WORDS[c], at };
+  }
+  const m = /^[A-Za-z]+/.exec(sc.s.slice(sc.pos));
+  if (m) {
+    const unit = UNIT_WORDS[m[0].toLowerCase()];
+    if (!unit)
+      throw new QuantityError(
+        `unknown unit '${m[0]}' (use in, ", thou, ft, ', mm, cm, deg or °)`,
+        at,
+      );
+    sc.pos += m[0].length;
+    return { unit, at };
+  }
+  sc.pos = save;
+  return null;
+}
+
+/**
+ * Parses a written quantity. A number with no unit is `plain` (it takes the model unit).
+ *
+ * @example parseQuantity('1 3/16"').value // 30.1625 (mm)
+ * @example parseQuantity("2' 6\"").exact // { num: 30, den: 1, base: 'in' }
+ * @example parseQuantity('15 thou').value // 0.381 (mm)
+ * @example parseQuantity('30°').dimension // 'angle'
+ */
+export function parseQuantity(text: string): Quantity {
+  const sc = new Scanner(text);
+  sc.spaces();
+  if (sc.atEnd()) throw new QuantityError('empty value', 0);
+  let sign = 1;
+  if (sc.peek() === '-' || sc.peek() === '+') {
+    if (sc.peek() === '-') sign = -1;
+    sc.pos++;
+    sc.spaces();
+  }
+  const first = readNumberPart(sc);
+  const unit1 = readUnit(sc);
+  let r = first.r;
+  let unit: QuantityUnit | null = unit1?.unit ?? null;
+  let form: WrittenForm = first.form;
+  let decimals = first.decimals;
+  let denominator = first.denominator;
+
+  if (unit === 'ft' && first.form !== 'fraction' && first.form !== 'mixed') {
+    // Feet and inches: 2' 6", 2'-6 1/2", 2 ft 6 in. The inches part is optional.
+    const save = sc.pos;
+    sc.spaces();
+    if (sc.peek() === '-') sc.pos++;
+    sc.spaces();
+    if (/[\d.]/.test(sc.peek())) {
+      const inches = readNumberPart(sc);
+      const u = readUnit(sc);
+      if (u && u.unit !== 'in') throw new QuantityError('after feet, expected inches', u.at);
+      r = add(mul(r, { num: 12, den: 1 }), inches.r);
+      unit = 'in';
+      form = 'feet-inches';
+      decimals = inches.decimals;
+      denominator = inches.denominator;
+    } else {
+      sc.pos = save;
+    }
+  } else if (unit === 'deg' && first.form !== 'fraction' && first.form !== 'mixed') {
+    // Degrees, minutes and seconds: 30° 15' 30".
+    const parts: Array<[number, string]> = [
+      [60, "'"],
+      [3600, '"'],
+    ];
+    for (const [div, mark] of parts) {
+      const save = sc.pos;
+      sc.spaces();
+      const n = sc.decimal();
+      if (!n) {
+        sc.pos = save;
+        break;
+      }
+      sc.spaces();
+      if (sc.peek() !== mark) {
+        throw new QuantityError(
+          mark === "'"
+            ? "expected ' (minutes) after the degrees"
+            : 'expected " (seconds) after the minutes',
+          sc.pos,
+        );
+      }
+      sc.pos++;
+      const part = decimalToRational(n.text);
+      r = add(r, reduce(part.r.num, part.r.den * div));
+      form = 'deg-min-sec';
+      decimals = part.decimals;
+    }
+  }
+  sc.spaces();
+  if (!sc.atEnd()) throw new QuantityError(`unexpected '${sc.peek()}'`, sc.pos);
+
+  r = { num: sign * r.num, den: r.den };
+  const family = unit ? UNIT_FACTOR[unit] : null;
+  const exactValue = family ? mul(r, family) : r;
+  const base = family ? family.base : 'plain';
+  const q: Quantity = {
+    dimension: base === 'plain' ? 'plain' : base === 'deg' ? 'angle' : 'length',
+    unit,
+    value:
+      base === 'in'
+        ? ratioToNumber(exactValue.num * 254, exactValue.den * 10)
+        : ratioToNumber(exactValue.num, exactValue.den),
+    exact: { num: exactValue.num, den: exactValue.den, base },
+    form,
+    decimals,
+  };
+  if (denominator !== undefined) q.denominator = denominator;
+  return q;
+}
+
+/**
+ * The quantity's value in a model unit (a plain number is taken to be in that unit already),
+ * converted from its exact rational with a single rounding.
+ *
+ * @example quantityIn(parseQuantity('3/16'), 'in') // 0.1875
+ * @example quantityIn(parseQuantity('4.7625 mm'), 'in') // 0.1875
+ */
+export function quantityIn(q: Quantity, unit: ModelUnit): number {
+  const { num, den, base } = q.exact;
+  if (base === 'plain' || base === 'deg' || base === unit) return num / den;
+  // in → mm multiplies by 254/10; mm → in by 10/254.
+  return base === 'in' ? (num * 254) / (den * 10) : (num * 10) / (den * 254);
+}
+
+/**
+ * Converts a length between model units, exactly by 25.4.
+ *
+ * @example convertLength(1, 'in', 'mm') // 25.4
+ */
+export function convertLength(value: number, from: ModelUnit, to: ModelUnit): number {
+  if (from === to) return value;
+  return from === 'in' ? value * 25.4 : value / 25.4;
+}
+
+export interface NearestFraction {
+  /** e.g. `1 3/16`, `-3/8`, `2` */
+  text: string;
+  /** The fraction's exact value in inches. */
+  value: number;
+  numerator: number;
+  denominator: number;
+  whole: number;
+  /** value − input, inches. */
+  error: number;
+}
+
+/**
+ * The nearest fraction of an inch with a power-of-two denominator up to `maxDenominator`,
+ * reduced (so 0.5 gives 1/2, not 32/64).
+ *
+ * @example nearestFraction(1.1875).text // '1 3/16'
+ */
+export function nearestFraction(inches: number, maxDenominator = 64): NearestFraction {
+  const sign = inches < 0 ? -1 : 1;
+  const abs = Math.abs(inches);
+  let num = Math.round(abs * maxDenominator);
+  let den = maxDenominator;
+  while (num % 2 === 0 && den > 1) {
+    num /= 2;
+    den /= 2;
+  }
+  const whole = Math.floor(num / den);
+  const rest = num - whole * den;
+  const value = (sign * num) / den;
+  let text: string;
+  if (rest === 0) text = String(whole);
+  else if (whole === 0) text = `${rest}/${den}`;
+  else text = `${whole} ${rest}/${den}`;
+  if (sign < 0 && num !== 0) text = `-${text}`;
+  return { text, value, numerator: rest, denominator: den, whole, error: value - inches };
+}
+
+/**
+ * Formats inches as the nearest fraction to 1/64 (or a coarser power of two).
+ *
+ * @example formatFraction(0.1875) // '3/16'
+ * @example formatFraction(2.5, 64, true) // '2 1/2"'
+ */
+export function formatFraction(inches: number, maxDenominator = 64, withMark = false): string {
+  const t = nearestFraction(inches, maxDenominator).text;
+  return withMark ? `${t}"` : t;
+}
+
+/**
+ * Formats a length held in `from` units as decimals of `to` units, with the unit.
+ *
+ * @example formatLength(4.7625, 'mm', 'in', 4) // '0.1875 in'
+ * @example formatLength(0.015, 'in', 'mm', 3) // '0.381 mm'
+ */
+export function formatLength(
+  value: number,
+  from: ModelUnit,
+  to: ModelUnit,
+  decimals = to === 'in' ? 4 : 3,
+): string {
+  const v = convertLength(value, from, to);
+  const s = (Object.is(v, -0) ? 0 : v).toFixed(decimals);
+  return `${s === `-${(0).toFixed(decimals)}` ? (0).toFixed(decimals) : s} ${to}`;
+}
+
+export interface NominalSuggestion {
+  /** The fraction the writer probably meant, e.g. `3/16`. */
+  text: string;
+  inches: number;
+  mm: number;
+  /** intended − written, in the written family's unit (inches or millimetres). */
+  delta: number;
+}
+
+/**
+ * Suggests the intended nominal behind a rounded decimal: 0.187 in was very likely 3/16
+ * (0.1875), and 4.76 mm likely 3/16 in. A fraction qualifies when it lies within one unit of
+ * the last written decimal place (which covers both truncation and rounding); the coarsest
+ * such fraction wins. Returns null for fractions, angles, one-place decimals, or when nothing
+ * fits.
+ *
+ * @example suggestNominal(parseQuantity('0.187'))?.text // '3/16'
+ * @example suggestNominal(parseQuantity('4.76 mm'))?.text // '3/16'
+ */
+export function suggestNominal(
+  q: Quantity,
+  modelUnit: ModelUnit = 'in',
+  maxDenominator = 64,
+): NominalSuggestion | null {
+  if (q.dimension === 'angle') return null;
+  if (!(q.form === 'decimal' || (q.unit === 'thou' && q.form === 'integer'))) return null;
+  // One decimal place is too coarse to point at one fraction (0.2 could be 3/16 or 1/4).
+  if (q.decimals < 2 && q.unit !== 'thou') return null;
+  const written = q.exact.num / q.exact.den;
+  const isMm = q.exact.base === 'mm' || (q.exact.base === 'plain' && modelUnit === 'mm');
+  const step = 10 ** -q.decimals * (q.unit === 'thou' ? 0.001 : 1);
+  const inches = isMm ? written / 25.4 : written;
+  for (let den = 2; den <= maxDenominator; den *= 2) {
+    const f = Math.round(inches * den) / den;
+    const deltaInFamily = isMm ? f * 25.4 - written : f - inches;
+    if (f !== inches && Math.abs(deltaInFamily) <= step * (1 + 1e-9)) {
+      const text = nearestFraction(f, den).text;
+      return { text, inches: f, mm: (f * 254) / 10, delta: deltaInFamily };
+    }
+    if (f === inches) return null;
+  }
+  return null;
+}
