@@ -1,10 +1,12 @@
 // The demo scenario (invented; every name and figure in it is ours): see README "What you see".
+import { modelSchema } from '@shared/engine';
 import type { PasswordHasher } from '../auth/passwords';
 import type { Db } from '../db/client';
 import { findProjectByName, upsertMembership } from '../db/projects';
 import { findUserByEmail, insertUser } from '../db/users';
 import { createModelService } from '../services/models';
 import { createProjectService } from '../services/projects';
+import { kestrelModel } from './kestrel-model';
 
 export const demoPassword = 'fairsheet-demo';
 export const demoBuilder = { email: 'builder@example.com', name: 'Alex Marsh (builder)' };
@@ -18,17 +20,25 @@ async function ensureUser(db: Db, hasher: PasswordHasher, who: { email: string; 
   return { user: user ?? (await findUserByEmail(db, who.email))!, created: true };
 }
 
-/** Creates the demo accounts and project once; answers whether anything was created. */
+/** Creates the demo accounts, project and model once; answers whether anything was created. */
 export async function seedDemo(db: Db, hasher: PasswordHasher): Promise<boolean> {
   const builder = await ensureUser(db, hasher, demoBuilder);
   const checker = await ensureUser(db, hasher, demoChecker);
   if (await findProjectByName(db, demoProjectName)) return builder.created || checker.created;
-  const projects = createProjectService(db, createModelService(db));
+  const models = createModelService(db);
+  const projects = createProjectService(db, models);
   const project = await projects.create(builder.user.id, {
     name: demoProjectName,
     displayUnit: 'in',
     modelScale: '1:11.3',
   });
   await upsertMembership(db, project.id, checker.user.id, 'checker');
+  await models.save(
+    project.id,
+    builder.user.id,
+    0,
+    modelSchema.parse(kestrelModel),
+    'Demo model from sheet 1',
+  );
   return true;
 }

@@ -1,5 +1,12 @@
-import { solveModel, type FairsheetModel, type SolveResult } from '@shared/engine';
-import { diffModels, isEmptyDiff, movedValues, summariseDiff } from '@shared/engine/diff';
+import {
+  diffModels,
+  isEmptyDiff,
+  movedValues,
+  solveModel,
+  summariseDiff,
+  type FairsheetModel,
+  type SolveResult,
+} from '@shared/engine';
 import { emptyModel } from '@shared/api';
 import type { Db } from '../db/client';
 import * as repo from '../db/models';

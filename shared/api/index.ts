@@ -3,3 +3,4 @@ export * from './projects';
 export * from './errors';
 export * from './models';
 export * from './engine';
+export * from './sheets';

@@ -20,10 +20,15 @@ export class ApiError extends Error {
   }
 }
 
-let csrfToken = '';
+let csrf = '';
 
 export function setCsrfToken(token: string) {
-  csrfToken = token;
+  csrf = token;
+}
+
+/** The session's CSRF token, for requests made outside `request()` (an upload with progress). */
+export function csrfToken(): string {
+  return csrf;
 }
 
 /**
@@ -32,7 +37,7 @@ export function setCsrfToken(token: string) {
  */
 export async function request<T>(method: string, url: string, body?: unknown): Promise<T> {
   const headers: Record<string, string> = { Accept: 'application/json' };
-  if (method !== 'GET') headers['X-CSRF-Token'] = csrfToken;
+  if (method !== 'GET') headers['X-CSRF-Token'] = csrf;
   if (body !== undefined) headers['Content-Type'] = 'application/json';
   let response: Response;
   try {

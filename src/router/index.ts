@@ -35,9 +35,26 @@ export const router = createRouter({
     { path: '/projects', name: 'projects', component: () => import('@/views/ProjectsView.vue') },
     {
       path: '/projects/:projectId',
-      name: 'project',
-      component: () => import('@/views/ProjectOverviewView.vue'),
+      component: () => import('@/views/ProjectView.vue'),
       props: true,
+      children: [
+        {
+          path: '',
+          name: 'project',
+          component: () => import('@/views/ProjectOverviewView.vue'),
+          props: true,
+        },
+        {
+          path: 'model',
+          name: 'project-model',
+          component: () => import('@/views/ProjectModelView.vue'),
+        },
+        {
+          path: 'history',
+          name: 'project-history',
+          component: () => import('@/views/ProjectHistoryView.vue'),
+        },
+      ],
     },
     {
       path: '/:pathMatch(.*)*',
