@@ -81,6 +81,11 @@ const UNIT_SYMBOLS: Record<string, UnitSymbol> = {
 // letter-like symbols that mathjs accepts as names and that no dimension name can contain.
 const INCH_MARK = '\u2110';
 const DEG_MARK = '\u2111';
+/**
+ * Stands for the dot of a part-qualified name (`frame.bolt_x`) inside the text handed to mathjs,
+ * which would read the dot as property access; a Latin letter mathjs accepts in symbol names.
+ */
+const QUALIFIER_MARK = '\u0298';
 
 const OPERATOR_WORDS = new Set(['to', 'mod', 'and', 'or', 'xor', 'not']);
 const CONSTANT_WORDS = new Set(['true', 'false', 'null', 'undefined', 'NaN', 'Infinity']);
@@ -186,6 +191,16 @@ function lex(src: string): { tokens: Token[]; prepared: string } {
         throw new ExpressionError('forbidden', `operator '${word}' is not allowed`, i);
       if (CONSTANT_WORDS.has(word))
         throw new ExpressionError('forbidden', `'${word}' is not allowed`, i);
+      const dot = i + word.length;
+      if (src[dot] === '.' && WORD_START.test(src[dot + 1] ?? '')) {
+        // A part-qualified name, e.g. `hornblock.bolt_x`: one identifier.
+        WORD_RE.lastIndex = dot + 1;
+        const member = WORD_RE.exec(src)![0];
+        put(dot, QUALIFIER_MARK);
+        tokens.push({ kind: 'ident', text: `${word}${QUALIFIER_MARK}${member}`, at: i });
+        i = dot + 1 + member.length;
+        continue;
+      }
       if (word === 'in') {
         put(i, INCH_MARK);
         put(i + 1, INCH_MARK);
@@ -311,7 +326,7 @@ class SideReader {
         if (name in FUNCTIONS) {
           throw new ExpressionError('forbidden', `${name} is a function: write ${name}(…)`, at);
         }
-        return { t: 'sym', name, at };
+        return { t: 'sym', name: name.replace(QUALIFIER_MARK, '.'), at };
       }
       case 'OperatorNode': {
         const op = n as unknown as { fn: string; op: string; args: MathNode[]; implicit?: boolean };

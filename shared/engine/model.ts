@@ -5,8 +5,11 @@
 import { z } from 'zod';
 import { quantityIn, type ModelUnit, type Quantity } from './quantity';
 
-/** Dimension names are plain identifiers; qualification by part may come later. */
-export const DIMENSION_NAME = /^[A-Za-z_][A-Za-z0-9_]*$/;
+/**
+ * Dimension names are identifiers, optionally qualified by a part: `bolt_x` or
+ * `hornblock.bolt_x` (so relations can cross parts without name clashes).
+ */
+export const DIMENSION_NAME = /^[A-Za-z_][A-Za-z0-9_]*(\.[A-Za-z_][A-Za-z0-9_]*)?$/;
 
 /** A value: a number in the model unit, or a written quantity such as `1 3/16"` or `3.175 mm`. */
 const valueSchema = z.union([z.number().finite(), z.string().trim().min(1, 'value is empty')]);
@@ -16,7 +19,10 @@ const quantityKind = z.enum(['length', 'angle', 'count']);
 const common = {
   name: z
     .string()
-    .regex(DIMENSION_NAME, 'a name is a letter or _ followed by letters, digits or _'),
+    .regex(
+      DIMENSION_NAME,
+      'a name is a letter or _ followed by letters, digits or _, optionally part.name',
+    ),
   quantity: quantityKind.default('length'),
   label: z.string().optional(),
   part: z.string().optional(),

@@ -31,7 +31,8 @@ const clone = <T>(value: T): T => JSON.parse(JSON.stringify(value)) as T;
 
 /** Renames a dimension inside a relation, whole identifiers only (not inside longer names). */
 export function renameInExpression(expr: string, from: string, to: string): string {
-  return expr.replace(new RegExp(`(?<![\\w.])${from}(?![\\w(])`, 'g'), to);
+  const escaped = from.replace(/\./g, '\\.');
+  return expr.replace(new RegExp(`(?<![\\w.])${escaped}(?![\\w(.])`, 'g'), to);
 }
 
 /**

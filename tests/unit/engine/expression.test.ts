@@ -8,6 +8,7 @@ import {
   type CompiledRelation,
   type SymbolQuantity,
 } from '@shared/engine/expression';
+import { solveModel } from '@shared/engine/solve';
 
 function refusal(text: string): { code: string; at: number | undefined } {
   try {
@@ -64,7 +65,7 @@ describe('parseRelation', () => {
   });
 
   it('refuses property access, indexing, matrices and objects at the offending character', () => {
-    expect(refusal('x = a.b')).toEqual({ code: 'forbidden', at: 5 });
+    expect(refusal('x = a.b.c')).toEqual({ code: 'forbidden', at: 7 });
     expect(refusal('x = a[1]')).toEqual({ code: 'forbidden', at: 5 });
     expect(refusal('x = [1, 2]')).toEqual({ code: 'forbidden', at: 4 });
     expect(refusal('x = {a: 1}')).toEqual({ code: 'forbidden', at: 4 });
@@ -279,5 +280,30 @@ describe('robustness (property)', () => {
       ),
       { numRuns: 500 },
     );
+  });
+});
+
+describe('part-qualified names', () => {
+  it('reads hornblock.bolt_x as one name and solves across parts', () => {
+    expect(parseRelation('frame.bolt_x = hornblock.bolt_x + 0.5').names).toEqual([
+      'frame.bolt_x',
+      'hornblock.bolt_x',
+    ]);
+    const r = solveModel({
+      format: 'fairsheet.model',
+      version: 1,
+      units: 'in',
+      dimensions: [
+        { name: 'hornblock.bolt_x', kind: 'stated', value: '5/16' },
+        { name: 'frame.bolt_x', kind: 'derived' },
+      ],
+      relations: [{ id: 'line_up', expr: 'frame.bolt_x = hornblock.bolt_x + 4' }],
+    });
+    expect(r.status).toBe('solved');
+    expect(r.values['frame.bolt_x'].value).toBeCloseTo(4.3125, 12);
+  });
+
+  it('still refuses property access beyond one qualifier', () => {
+    expect(() => parseRelation('a = frame.plate.x')).toThrow(ExpressionError);
   });
 });

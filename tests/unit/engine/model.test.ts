@@ -87,7 +87,8 @@ describe('model schema v1', () => {
 
   it('refuses bad names, unknown kinds, a given without value and mixed tolerance styles', () => {
     const bad = (d: unknown) => modelSchema.safeParse({ ...base, dimensions: [d] }).success;
-    expect(bad({ name: 'part.name', kind: 'stated', value: 1 })).toBe(false);
+    expect(bad({ name: 'part.sub.name', kind: 'stated', value: 1 })).toBe(false);
+    expect(bad({ name: 'part.name', kind: 'stated', value: 1 })).toBe(true);
     expect(bad({ name: '1a', kind: 'stated', value: 1 })).toBe(false);
     expect(bad({ name: 'a', kind: 'guessed', value: 1 })).toBe(false);
     expect(bad({ name: 'a', kind: 'stated' })).toBe(false);

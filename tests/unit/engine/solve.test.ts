@@ -365,14 +365,14 @@ describe('solveModel: errors', () => {
         [
           ['r1', 'x = a + nope'],
           ['r2', 'y = (a'],
-          ['r3', 'z = a.b'],
+          ['r3', 'z = a.b.c'],
         ],
       ),
     );
     expect(r.errors).toEqual([
       expect.objectContaining({ code: 'unknown-name', relation: 'r1', at: 8 }),
       expect.objectContaining({ code: 'syntax', relation: 'r2' }),
-      expect.objectContaining({ code: 'forbidden', relation: 'r3', at: 5 }),
+      expect.objectContaining({ code: 'forbidden', relation: 'r3', at: 7 }),
     ]);
   });
 
