@@ -7,6 +7,8 @@ import type { SolveResult } from './result';
 
 type DimensionInput = FairsheetModelInput['dimensions'][number];
 type RelationInput = NonNullable<FairsheetModelInput['relations']>[number];
+type PartInput = NonNullable<FairsheetModelInput['parts']>[number];
+type FeatureInput = NonNullable<FairsheetModelInput['features']>[number];
 
 export interface FieldChange {
   field: string;
@@ -26,6 +28,8 @@ export interface ModelDiff {
   units?: { from: string; to: string };
   dimensions: ItemChange<DimensionInput>[];
   relations: ItemChange<RelationInput>[];
+  parts: ItemChange<PartInput>[];
+  features: ItemChange<FeatureInput>[];
 }
 
 export interface ValueMove {
@@ -78,11 +82,19 @@ export function diffModels(before: FairsheetModelInput, after: FairsheetModelInp
     ...(before.units !== after.units ? { units: { from: before.units, to: after.units } } : {}),
     dimensions: diffBy(before.dimensions, after.dimensions, (d) => d.name),
     relations: diffBy(before.relations ?? [], after.relations ?? [], (r) => r.id),
+    parts: diffBy(before.parts ?? [], after.parts ?? [], (p) => p.id),
+    features: diffBy(before.features ?? [], after.features ?? [], (f) => f.id),
   };
 }
 
 export function isEmptyDiff(diff: ModelDiff): boolean {
-  return !diff.units && diff.dimensions.length === 0 && diff.relations.length === 0;
+  return (
+    !diff.units &&
+    diff.dimensions.length === 0 &&
+    diff.relations.length === 0 &&
+    (diff.parts?.length ?? 0) === 0 &&
+    (diff.features?.length ?? 0) === 0
+  );
 }
 
 const show = (v: unknown) =>
@@ -112,6 +124,12 @@ export function summariseDiff(diff: ModelDiff, limit = 4): string {
     parts.push(
       r.change === 'changed' ? `relation ${r.key} edited` : `${r.change} relation ${r.key}`,
     );
+  }
+  for (const p of diff.parts ?? []) {
+    parts.push(p.change === 'changed' ? `part ${p.key} edited` : `${p.change} part ${p.key}`);
+  }
+  for (const f of diff.features ?? []) {
+    parts.push(f.change === 'changed' ? `feature ${f.key} edited` : `${f.change} feature ${f.key}`);
   }
   if (!parts.length) return 'no change';
   const shown = parts.slice(0, limit).join('; ');
@@ -179,5 +197,7 @@ export function applyDiff(model: FairsheetModelInput, diff: ModelDiff): Fairshee
     ...(diff.units ? { units: diff.units.to as FairsheetModelInput['units'] } : {}),
     dimensions: applyBy(model.dimensions, diff.dimensions, (d) => d.name),
     relations: applyBy(model.relations ?? [], diff.relations, (r) => r.id),
+    parts: applyBy(model.parts ?? [], diff.parts ?? [], (p) => p.id),
+    features: applyBy(model.features ?? [], diff.features ?? [], (f) => f.id),
   };
 }

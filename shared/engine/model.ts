@@ -99,6 +99,80 @@ export const toleranceDefaultsSchema = z.object({
   assumed: z.number().nonnegative().default(0),
 });
 
+const identifier = z
+  .string()
+  .regex(/^[A-Za-z_][A-Za-z0-9_]*$/, 'an id is a letter or _ followed by letters, digits or _');
+
+/** An expression over dimension names (`horn1_x - horn_gap / 2`), or a number in the model unit. */
+const positionExpr = z.union([z.number().finite(), z.string().trim().min(1, 'give a position')]);
+
+/**
+ * A part of the project: what is machined, from what, how many, and whether it is machined
+ * together with others as one stack (so shared features line up by construction).
+ */
+export const partSchema = z.object({
+  id: identifier,
+  name: z.string().trim().min(1),
+  /** A material id of the surface-speed table (shop-math.ts), e.g. `mild-steel`, `brass`. */
+  material: z.string().default('mild-steel'),
+  quantity: z.number().int().positive().default(1),
+  /** Parts with the same stack id are drilled together as one stack. */
+  stack: identifier.optional(),
+  /** Boilers, steam pipes, safety valves: figures must be written or approved, not scaled. */
+  pressure: z.boolean().default(false),
+  /** Which stock drills the shop has, for the nearest-drill suggestions. */
+  drillSet: z.enum(['metric', 'numberLetter', 'fractional']).default('metric'),
+  /** The part's outline from its datum (bottom-left), for the part view. */
+  width: positionExpr.optional(),
+  height: positionExpr.optional(),
+  notes: z.string().optional(),
+});
+
+const circlePattern = z.object({
+  type: z.literal('circle'),
+  count: z.number().int().min(2).max(360),
+  /** Pitch circle diameter. */
+  pcd: positionExpr,
+  /** First hole, degrees counter-clockwise from +X. */
+  startDeg: z.number().finite().default(0),
+});
+
+const rowPattern = z.object({
+  type: z.literal('row'),
+  count: z.number().int().min(2).max(500),
+  pitch: positionExpr,
+  /** Direction of the row, degrees counter-clockwise from +X. */
+  angleDeg: z.number().finite().default(0),
+});
+
+/**
+ * A feature of a part, positioned from the part's datum by expressions over the model's
+ * dimensions. A pattern (pitch circle or row) expands to one position per hole, with the
+ * feature's X/Y as the circle's centre or the row's first hole.
+ */
+export const featureSchema = z.object({
+  id: identifier,
+  part: identifier,
+  kind: z.enum(['hole', 'tapped', 'slot', 'pocket', 'edge']),
+  label: z.string().optional(),
+  x: positionExpr,
+  y: positionExpr,
+  /** A drill by label or size: `#29`, `F`, `7/64`, `3.3 mm`. */
+  drill: z.string().trim().min(1).optional(),
+  /** A thread designation: `6BA`, `M4`, `1/8x40 ME`, `10-32 UNF`. Tapped holes cut it; */
+  thread: z.string().trim().min(1).optional(),
+  /** Clearance holes for a thread take its close or free clearance drill. */
+  clearance: z.enum(['close', 'free']).optional(),
+  /** Target % thread for the tap drill (common practice: 75 %). */
+  percentThread: z.number().min(40).max(100).default(75),
+  depth: z.union([z.literal('through'), positionExpr]).default('through'),
+  /** Slot or pocket size. */
+  width: positionExpr.optional(),
+  length: positionExpr.optional(),
+  pattern: z.discriminatedUnion('type', [circlePattern, rowPattern]).optional(),
+  note: z.string().optional(),
+});
+
 export const modelSchema = z.object({
   format: z.literal('fairsheet.model'),
   version: z.literal(1),
@@ -106,6 +180,9 @@ export const modelSchema = z.object({
   dimensions: z.array(dimensionSchema),
   relations: z.array(relationSchema).default([]),
   defaults: toleranceDefaultsSchema.partial().optional(),
+  /** Parts and their features (optional: a model may be dimensions and relations only). */
+  parts: z.array(partSchema).default([]),
+  features: z.array(featureSchema).default([]),
 });
 
 /** A model as read (defaults filled in). */
@@ -117,6 +194,8 @@ export type ModelRelation = z.infer<typeof relationSchema>;
 export type ToleranceDefaults = z.infer<typeof toleranceDefaultsSchema>;
 export type DimensionKind = ModelDimension['kind'];
 export type QuantityKind = z.infer<typeof quantityKind>;
+export type ModelPart = z.infer<typeof partSchema>;
+export type ModelFeature = z.infer<typeof featureSchema>;
 
 /**
  * The full defaults table, with a model's overrides applied.
