@@ -99,6 +99,8 @@ export type {
 export { diffModels, isEmptyDiff, summariseDiff, movedValues, applyDiff } from './diff';
 export type { ModelDiff, ItemChange, FieldChange, ValueMove } from './diff';
 
+export { upstreamText } from './fingerprint';
+
 export * from './calibrate';
 export * from './threads';
 export * from './drills';
