@@ -4,3 +4,4 @@ export * from './errors';
 export * from './models';
 export * from './engine';
 export * from './sheets';
+export * from './team';
