@@ -12,13 +12,23 @@ import { engineRoutes } from './routes/engine';
 import { healthRoutes } from './routes/health';
 import { modelRoutes } from './routes/models';
 import { projectRoutes } from './routes/projects';
+import { sheetRoutes } from './routes/sheets';
 import { createAuthService } from './services/auth';
 import { createModelService } from './services/models';
 import { createProjectService } from './services/projects';
+import { createSheetService } from './services/sheets';
+import { createLocalStorage } from './storage/local';
+import type { BlobStorage } from './storage/storage';
 
 export interface AppDeps {
   database: Database;
   mailer: Mailer;
+  /** Where uploaded sheets are kept (local disk or an S3 bucket); default local `uploads/`. */
+  storage?: BlobStorage;
+  /** Largest accepted upload per file, bytes (default 60 MB). */
+  uploadMaxBytes?: number;
+  /** Where multipart uploads are staged while checked (default: the system temp folder). */
+  uploadTempDir?: string;
   hasher: PasswordHasher;
   sessionSecret: string;
   appUrl: string;
@@ -51,6 +61,10 @@ export function createApp(deps: AppDeps): Express {
   });
   const models = createModelService(db);
   const projects = createProjectService(db, models);
+  const sheets = createSheetService({
+    db,
+    storage: deps.storage ?? createLocalStorage('uploads'),
+  });
 
   const api = express.Router();
   api.use(express.json({ limit: '2mb' }));
@@ -59,7 +73,16 @@ export function createApp(deps: AppDeps): Express {
   api.use(requireCsrf);
   api.use('/auth', authRoutes(db, auth));
   api.use(engineRoutes(db));
-  api.use('/projects', requireUser, projectRoutes(db, projects), modelRoutes(db, models));
+  api.use(
+    '/projects',
+    requireUser,
+    projectRoutes(db, projects),
+    modelRoutes(db, models),
+    sheetRoutes(db, sheets, {
+      maxBytes: deps.uploadMaxBytes ?? 60 * 1024 * 1024,
+      tempDir: deps.uploadTempDir,
+    }),
+  );
   api.use(() => {
     throw notFound('That API route');
   });

@@ -26,6 +26,22 @@ const schema = z.object({
     .enum(['0', '1', 'true', 'false'])
     .default('1')
     .transform((v) => v === '1' || v === 'true'),
+  /** Where uploaded sheets are kept: `local` (UPLOAD_DIR) or `s3` (an S3-compatible bucket). */
+  STORAGE: z.enum(['local', 's3']).default('local'),
+  UPLOAD_DIR: z.string().min(1).default('uploads'),
+  /** Largest accepted upload, per file, in MB. */
+  UPLOAD_MAX_MB: z.coerce.number().positive().max(4096).default(60),
+  /** Unset: AWS itself; set for any S3-compatible service. */
+  S3_ENDPOINT: z.url().optional(),
+  S3_BUCKET: z.string().min(3).optional(),
+  S3_REGION: z.string().min(1).default('us-east-1'),
+  /** Unset: the SDK's usual credential chain. */
+  S3_ACCESS_KEY_ID: z.string().min(1).optional(),
+  S3_SECRET_ACCESS_KEY: z.string().min(1).optional(),
+  S3_FORCE_PATH_STYLE: z
+    .enum(['0', '1', 'true', 'false'])
+    .default('false')
+    .transform((v) => v === '1' || v === 'true'),
 });
 
 export type Env = z.infer<typeof schema>;
@@ -41,6 +57,14 @@ export function loadEnv(source: NodeJS.ProcessEnv = process.env): Env {
   if (env.NODE_ENV === 'production' && !env.SESSION_SECRET) {
     throw new Error(
       'Configuration is not valid:\n  SESSION_SECRET: required in production (32+ characters)',
+    );
+  }
+  if (env.STORAGE === 's3' && !env.S3_BUCKET) {
+    throw new Error('Configuration is not valid:\n  S3_BUCKET: required when STORAGE=s3');
+  }
+  if (Boolean(env.S3_ACCESS_KEY_ID) !== Boolean(env.S3_SECRET_ACCESS_KEY)) {
+    throw new Error(
+      'Configuration is not valid:\n  S3_ACCESS_KEY_ID, S3_SECRET_ACCESS_KEY: set both or neither',
     );
   }
   return env;

@@ -10,6 +10,8 @@ import { seedDemo } from './demo/seed';
 import type { Env } from './env';
 import { createMailer } from './mail/mailer';
 import { startMailSink, type MailSink } from './mail/sink';
+import { createSheetService } from './services/sheets';
+import { storageFromEnv } from './storage';
 
 export interface RunningServer {
   url: string;
@@ -42,14 +44,20 @@ export async function startServer(env: Env, databaseUrl: string): Promise<Runnin
 
   const hasher = createPasswordHasher(env.BCRYPT_COST);
   const appUrl = env.APP_URL ?? `http://${env.HOST}:${env.PORT}`;
+  const storage = storageFromEnv(env);
+  // Files left by deleted projects (their sheets went with them; the stored bytes did not).
+  const swept = await createSheetService({ db: database.db, storage }).removeUnusedFiles();
+  if (swept) console.log(`[fairsheet] removed ${swept} stored files no sheet uses`);
   if (env.FAIRSHEET_SEED_DEMO) {
-    const seeded = await seedDemo(database.db, hasher);
+    const seeded = await seedDemo(database.db, hasher, storage);
     if (seeded) console.log(`[fairsheet] demo data created`);
   }
 
   const app = createApp({
     database,
     mailer: createMailer({ smtpUrl: env.SMTP_URL, sinkPort: sink?.port ?? 0, from: env.MAIL_FROM }),
+    storage,
+    uploadMaxBytes: Math.round(env.UPLOAD_MAX_MB * 1024 * 1024),
     hasher,
     sessionSecret: sessionSecret(env),
     appUrl,

@@ -2,7 +2,10 @@ import { drizzle, type NodePgDatabase } from 'drizzle-orm/node-postgres';
 import { migrate } from 'drizzle-orm/node-postgres/migrator';
 import { fileURLToPath } from 'node:url';
 import pg from 'pg';
-import * as schema from './schema';
+import * as core from './schema';
+import * as team from './schema-team';
+
+const schema = { ...core, ...team };
 
 export type Db = NodePgDatabase<typeof schema>;
 

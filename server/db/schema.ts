@@ -1,4 +1,6 @@
 import {
+  bigint,
+  doublePrecision,
   index,
   integer,
   json,
@@ -125,3 +127,55 @@ export const modelRevisions = pgTable(
   },
   (t) => [primaryKey({ columns: [t.projectId, t.revision] })],
 );
+
+/**
+ * Stored files, one row per distinct content (the key is its SHA-256, as in the storage module).
+ * A row exists exactly while some sheet uses the file; sheets lock it to add or drop a use.
+ */
+export const files = pgTable('files', {
+  sha256: text('sha256').primaryKey(),
+  mimeType: text('mime_type').notNull(),
+  sizeBytes: bigint('size_bytes', { mode: 'number' }).notNull(),
+  createdAt: timestamp('created_at', { withTimezone: true }).notNull().defaultNow(),
+});
+
+/** One uploaded page (a PDF page or an image) with its view settings, calibration and pins. */
+export const sheets = pgTable(
+  'sheets',
+  {
+    id: uuid('id').primaryKey().defaultRandom(),
+    /** Upload order, so the pages of one upload list in order. */
+    seq: integer('seq').generatedAlwaysAsIdentity(),
+    projectId: uuid('project_id')
+      .notNull()
+      .references(() => projects.id, { onDelete: 'cascade' }),
+    fileSha256: text('file_sha256')
+      .notNull()
+      .references(() => files.sha256, { onDelete: 'restrict' }),
+    /** As uploaded, sanitised; metadata only, never a path. */
+    originalName: text('original_name').notNull(),
+    title: text('title').notNull(),
+    kind: text('kind', { enum: ['drawing', 'photo'] }).notNull(),
+    page: integer('page').notNull().default(1),
+    pageCount: integer('page_count').notNull().default(1),
+    widthPx: doublePrecision('width_px').notNull(),
+    heightPx: doublePrecision('height_px').notNull(),
+    rotation: integer('rotation').notNull().default(0),
+    straighten: doublePrecision('straighten').notNull().default(0),
+    calibration: jsonb('calibration'),
+    pins: jsonb('pins').notNull().default([]),
+    measurements: jsonb('measurements').notNull().default([]),
+    /** Bumped by every change; a change naming an older one is refused (409). */
+    revision: integer('revision').notNull().default(0),
+    createdBy: uuid('created_by').references(() => users.id, { onDelete: 'set null' }),
+    createdAt: timestamp('created_at', { withTimezone: true }).notNull().defaultNow(),
+    updatedAt: timestamp('updated_at', { withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [
+    index('sheets_project_idx').on(t.projectId, t.seq),
+    index('sheets_file_idx').on(t.fileSha256),
+  ],
+);
+
+export type FileRow = typeof files.$inferSelect;
+export type SheetRow = typeof sheets.$inferSelect;

@@ -6,7 +6,9 @@ import { findProjectByName, upsertMembership } from '../db/projects';
 import { findUserByEmail, insertUser } from '../db/users';
 import { createModelService } from '../services/models';
 import { createProjectService } from '../services/projects';
+import type { BlobStorage } from '../storage/storage';
 import { kestrelModel } from './kestrel-model';
+import { seedDemoSheets } from './sheets';
 
 export const demoPassword = 'fairsheet-demo';
 export const demoBuilder = { email: 'builder@example.com', name: 'Alex Marsh (builder)' };
@@ -20,8 +22,15 @@ async function ensureUser(db: Db, hasher: PasswordHasher, who: { email: string; 
   return { user: user ?? (await findUserByEmail(db, who.email))!, created: true };
 }
 
-/** Creates the demo accounts, project and model once; answers whether anything was created. */
-export async function seedDemo(db: Db, hasher: PasswordHasher): Promise<boolean> {
+/**
+ * Creates the demo accounts, project and model once; answers whether anything was created.
+ * With a storage, the project also gets its drawing and photo sheets.
+ */
+export async function seedDemo(
+  db: Db,
+  hasher: PasswordHasher,
+  storage?: BlobStorage,
+): Promise<boolean> {
   const builder = await ensureUser(db, hasher, demoBuilder);
   const checker = await ensureUser(db, hasher, demoChecker);
   if (await findProjectByName(db, demoProjectName)) return builder.created || checker.created;
@@ -40,5 +49,6 @@ export async function seedDemo(db: Db, hasher: PasswordHasher): Promise<boolean>
     modelSchema.parse(kestrelModel),
     'Demo model from sheet 1',
   );
+  if (storage) await seedDemoSheets(db, storage, project.id, builder.user.id);
   return true;
 }

@@ -1,5 +1,5 @@
 import { randomBytes } from 'node:crypto';
-import { mkdtempSync } from 'node:fs';
+import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import pg from 'pg';
@@ -10,6 +10,7 @@ import { createPasswordHasher } from '../../server/auth/passwords';
 import { connect, type Database } from '../../server/db/client';
 import { createMailer } from '../../server/mail/mailer';
 import { readMailbox, startMailSink, type MailSink } from '../../server/mail/sink';
+import { createLocalStorage, type BlobStorage } from '../../server/storage';
 
 /** A fresh database copied from the run's migrated template. */
 export async function createTestDatabase(): Promise<{
@@ -47,12 +48,24 @@ export interface TestApp {
   databaseUrl: string;
   sink: MailSink;
   mail: () => ReturnType<typeof readMailbox>;
+  storage: BlobStorage;
+  /** The local storage's folder (when the default temp-dir storage is used). */
+  storageDir?: string;
+  /** Where uploads are staged while checked; empty again after every request. */
+  uploadTempDir: string;
   close: () => Promise<void>;
 }
 
 /** The real app (createApp) on a real, fresh PostgreSQL database, with a real SMTP sink. */
 export async function createTestApp(
-  options: { clientDir?: string; appUrl?: string; sessionSecret?: string } = {},
+  options: {
+    clientDir?: string;
+    appUrl?: string;
+    sessionSecret?: string;
+    /** Default: local storage in a fresh temp folder. */
+    storage?: BlobStorage;
+    uploadMaxBytes?: number;
+  } = {},
 ): Promise<TestApp> {
   const testDb = await createTestDatabase();
   const database = connect(testDb.url, 5);
@@ -60,9 +73,17 @@ export async function createTestApp(
     port: 0,
     dir: mkdtempSync(path.join(tmpdir(), 'fairsheet-mail-')),
   });
+  const storageDir = options.storage
+    ? undefined
+    : mkdtempSync(path.join(tmpdir(), 'fairsheet-uploads-'));
+  const storage = options.storage ?? createLocalStorage(storageDir!);
+  const uploadTempDir = mkdtempSync(path.join(tmpdir(), 'fairsheet-incoming-'));
   const app = createApp({
     database,
     mailer: createMailer({ sinkPort: sink.port, from: 'Fairsheet <test@fairsheet.local>' }),
+    storage,
+    uploadMaxBytes: options.uploadMaxBytes,
+    uploadTempDir,
     hasher: testHasher,
     sessionSecret: options.sessionSecret ?? randomBytes(32).toString('hex'),
     appUrl: options.appUrl ?? 'http://127.0.0.1:3000',
@@ -76,10 +97,16 @@ export async function createTestApp(
     databaseUrl: testDb.url,
     sink,
     mail: () => readMailbox(sink.dir),
+    storage,
+    storageDir,
+    uploadTempDir,
     async close() {
       await sink.close();
       await database.pool.end();
       await testDb.drop();
+      for (const dir of [storageDir, uploadTempDir]) {
+        if (dir) rmSync(dir, { recursive: true, force: true });
+      }
     },
   };
 }

@@ -25,7 +25,7 @@ export async function startBrowserRig(): Promise<BrowserRig> {
   const port = await freePort();
   const baseUrl = `http://127.0.0.1:${port}`;
   const t = await createTestApp({ clientDir: path.join(root, 'dist'), appUrl: baseUrl });
-  await seedDemo(t.database.db, testHasher);
+  await seedDemo(t.database.db, testHasher, t.storage);
   const server = await new Promise<Server>((resolve) => {
     const s = t.app.listen(port, '127.0.0.1', () => resolve(s));
   });
