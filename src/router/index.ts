@@ -54,6 +54,16 @@ export const router = createRouter({
           name: 'project-history',
           component: () => import('@/views/ProjectHistoryView.vue'),
         },
+        {
+          path: 'sheets',
+          name: 'project-sheets',
+          component: () => import('@/views/ProjectSheetsView.vue'),
+        },
+        {
+          path: 'sheets/:sheetId',
+          name: 'project-sheet',
+          component: () => import('@/views/SheetView.vue'),
+        },
       ],
     },
     {

@@ -1,0 +1,198 @@
+import type { KnownLength, SheetCalibrationDto } from '@shared/api';
+import {
+  CalibrationError,
+  QuantityError,
+  checkCalibration,
+  convertLength,
+  fitHomography,
+  measureBetweenPins,
+  parseModelScale,
+  parseQuantity,
+  perAxisScale,
+  prototypeToModel,
+  twoPointScale,
+  type CalibrationCheck,
+  type ModelUnit,
+  type ReferenceLength,
+  type SheetCalibration,
+  type SheetPoint,
+} from '@shared/engine';
+
+/** A sheet's stored calibration turned into the engine's mapping, with its model scale. */
+export interface BuiltCalibration {
+  cal: SheetCalibration;
+  /** model / full size: 1 for a drawing, 1/8 for a photo of the full-size engine at 1:8. */
+  ratio: number;
+  /** "1:8" when the sheet is a photo of the prototype; null for a drawing. */
+  scaleLabel: string | null;
+  pickErrorPx: number;
+}
+
+export interface CalibrationResidual {
+  checks: readonly CalibrationCheck[];
+  rmsMm: number;
+  maxAbsMm: number;
+}
+
+/** A length between two pins at model size, with its ± (already at model size too). */
+export interface SheetMeasure {
+  lengthMm: number;
+  uncertaintyMm: number;
+  pickMm: number;
+  calibrationMm: number;
+  limitedByFloor: boolean;
+}
+
+export const referenceOf = (k: KnownLength): ReferenceLength => ({
+  a: k.a,
+  b: k.b,
+  lengthMm: k.lengthMm,
+  toleranceMm: k.tolMm ?? 0,
+});
+
+/**
+ * The engine's calibration for a stored one. Throws the engine's CalibrationError (with a
+ * message for the builder) when the picks cannot define a mapping.
+ */
+export function buildCalibration(dto: SheetCalibrationDto): BuiltCalibration {
+  const opts = { pickErrorPx: dto.pickErrorPx ?? 2 };
+  let cal: SheetCalibration;
+  switch (dto.method) {
+    case 'two-point':
+      cal = twoPointScale(referenceOf(dto.reference), opts);
+      break;
+    case 'per-axis':
+      cal = perAxisScale(
+        { horizontal: referenceOf(dto.horizontal), vertical: referenceOf(dto.vertical) },
+        opts,
+      );
+      break;
+    case 'four-point': {
+      const [w, h] = [dto.widthMm, dto.heightMm];
+      const plane = [
+        { x: 0, y: 0 },
+        { x: w, y: 0 },
+        { x: w, y: h },
+        { x: 0, y: h },
+      ];
+      cal = fitHomography(
+        dto.corners.map((px, i) => ({ px, mm: plane[i] })),
+        opts,
+      );
+      break;
+    }
+  }
+  const scale = dto.modelScale ? parseModelScale(dto.modelScale) : null;
+  return {
+    cal,
+    ratio: scale?.ratio ?? 1,
+    scaleLabel: scale?.label ?? null,
+    pickErrorPx: opts.pickErrorPx,
+  };
+}
+
+/** Builds a calibration, answering the error message instead of throwing. */
+export function tryBuildCalibration(dto: SheetCalibrationDto | null): {
+  built: BuiltCalibration | null;
+  error: string | null;
+} {
+  if (!dto) return { built: null, error: null };
+  try {
+    return { built: buildCalibration(dto), error: null };
+  } catch (err) {
+    return { built: null, error: err instanceof Error ? err.message : String(err) };
+  }
+}
+
+/**
+ * The residuals of the extra known lengths (`checks`), on the sheet's own plane (for a
+ * prototype photo: full size, as the check lengths were typed).
+ */
+export function calibrationResidual(
+  built: BuiltCalibration,
+  dto: SheetCalibrationDto,
+): CalibrationResidual | null {
+  const checks = dto.checks ?? [];
+  if (checks.length === 0) return null;
+  try {
+    return checkCalibration(built.cal, checks.map(referenceOf));
+  } catch {
+    return null;
+  }
+}
+
+/**
+ * The model-size length between two sheet points and its ±: the calibration's own
+ * uncertainty and the pins' pick error, never below the engine's floor; a photo of the
+ * prototype divides both by the model scale.
+ */
+export function measureOnSheet(
+  built: BuiltCalibration,
+  a: SheetPoint,
+  b: SheetPoint,
+): SheetMeasure {
+  const m = measureBetweenPins(built.cal, a, b, { pickErrorPx: built.pickErrorPx });
+  const atModel = prototypeToModel(m, built.ratio);
+  return {
+    lengthMm: atModel.lengthMm,
+    uncertaintyMm: atModel.uncertaintyMm,
+    pickMm: m.pickMm * built.ratio,
+    calibrationMm: m.calibrationMm * built.ratio,
+    limitedByFloor: m.limitedByFloor,
+  };
+}
+
+export type LengthParse = { ok: true; mm: number } | { ok: false; message: string };
+
+/**
+ * A length as typed ("6 1/4", `1-3/16"`, "150 mm", "2' 6\""); a bare number is taken in the
+ * project's unit. Answers a message instead of throwing, so the field keeps what was typed.
+ */
+export function parseLength(text: string, unit: ModelUnit, allowZero = false): LengthParse {
+  const t = text.trim();
+  if (!t) return { ok: false, message: 'Type a length, e.g. 6 1/4 or 150 mm' };
+  try {
+    const q = parseQuantity(t);
+    if (q.dimension === 'angle') return { ok: false, message: 'That is an angle; give a length' };
+    const mm = q.dimension === 'plain' ? convertLength(q.value, unit, 'mm') : q.value;
+    if (!Number.isFinite(mm) || mm < 0 || (!allowZero && mm === 0)) {
+      return { ok: false, message: allowZero ? 'Give 0 or more' : 'A length must be more than 0' };
+    }
+    return { ok: true, mm };
+  } catch (err) {
+    if (err instanceof QuantityError) {
+      return {
+        ok: false,
+        message: `Cannot read “${t}”: ${err.message} (at character ${err.at + 1})`,
+      };
+    }
+    return { ok: false, message: err instanceof Error ? err.message : String(err) };
+  }
+}
+
+/** A model scale as typed ("1:8", "1½ in to the foot"), or the engine's message. */
+export function parseScale(
+  text: string,
+): { ok: true; label: string } | { ok: false; message: string } {
+  try {
+    return { ok: true, label: parseModelScale(text).label };
+  } catch (err) {
+    return { ok: false, message: err instanceof CalibrationError ? err.message : String(err) };
+  }
+}
+
+/** mm → the model unit, as a number. */
+export const mmIn = (mm: number, unit: ModelUnit) => convertLength(mm, 'mm', unit);
+
+/** How a measured length is written into the model: 3 places in mm, 4 in inches. */
+export const placesFor = (unit: ModelUnit) => (unit === 'in' ? 4 : 3);
+
+/** A length in the model unit with its unit, rounded for the model (value) or up (tolerance). */
+export function writeLength(mm: number, unit: ModelUnit, roundUp = false): string {
+  const places = placesFor(unit);
+  const f = 10 ** places;
+  const v = mmIn(mm, unit);
+  // A tolerance rounds up, so writing it never makes it better than measured.
+  const r = roundUp ? Math.ceil(v * f - 1e-9) / f : Math.round(v * f) / f;
+  return `${r.toFixed(places)} ${unit}`;
+}
