@@ -105,3 +105,4 @@ export * from './calibrate';
 export * from './threads';
 export * from './drills';
 export * from './shop-math';
+export * from './features';
