@@ -13,10 +13,21 @@ import { healthRoutes } from './routes/health';
 import { modelRoutes } from './routes/models';
 import { projectRoutes } from './routes/projects';
 import { sheetRoutes } from './routes/sheets';
+import { bundleRoutes } from './routes/bundle';
+import { invitationLinkRoutes, teamRoutes } from './routes/team';
+import { shopSheetRoutes } from './routes/shop-sheet';
+import { createActivityService } from './services/activity';
 import { createAuthService } from './services/auth';
+import { createBundleService } from './services/bundle';
+import { createCheckService } from './services/checks';
+import { createCommentService } from './services/comments';
+import { createCorrectionService } from './services/corrections';
+import { createInvitationService } from './services/invitations';
+import { createMemberService } from './services/members';
 import { createModelService } from './services/models';
 import { createProjectService } from './services/projects';
 import { createSheetService } from './services/sheets';
+import { createShopSheetService } from './services/shop-sheet';
 import { createLocalStorage } from './storage/local';
 import type { BlobStorage } from './storage/storage';
 
@@ -59,12 +70,27 @@ export function createApp(deps: AppDeps): Express {
     mailer: deps.mailer,
     appUrl: deps.appUrl,
   });
-  const models = createModelService(db);
+  const activity = createActivityService(db);
+  const models = createModelService(db, activity);
   const projects = createProjectService(db, models);
-  const sheets = createSheetService({
+  const storage = deps.storage ?? createLocalStorage('uploads');
+  const sheets = createSheetService({ db, storage });
+  const uploadMaxBytes = deps.uploadMaxBytes ?? 60 * 1024 * 1024;
+
+  const invitations = createInvitationService({
     db,
-    storage: deps.storage ?? createLocalStorage('uploads'),
+    mailer: deps.mailer,
+    appUrl: deps.appUrl,
+    activity,
   });
+  const team = {
+    invitations,
+    members: createMemberService(db, activity),
+    checks: createCheckService(db, models, activity),
+    comments: createCommentService({ db, mailer: deps.mailer, appUrl: deps.appUrl, activity }),
+    corrections: createCorrectionService(db, activity),
+    activity,
+  };
 
   const api = express.Router();
   api.use(express.json({ limit: '2mb' }));
@@ -73,13 +99,46 @@ export function createApp(deps: AppDeps): Express {
   api.use(requireCsrf);
   api.use('/auth', authRoutes(db, auth));
   api.use(engineRoutes(db));
+  api.use('/invitations', invitationLinkRoutes(db, invitations));
   api.use(
     '/projects',
     requireUser,
     projectRoutes(db, projects),
     modelRoutes(db, models),
-    sheetRoutes(db, sheets, {
-      maxBytes: deps.uploadMaxBytes ?? 60 * 1024 * 1024,
+    shopSheetRoutes(
+      db,
+      createShopSheetService(models, {
+        // Each row shows its checks, and the title block the corrections of the source sheets.
+        reviews: async (projectId) => {
+          const [{ checks }, corrections] = await Promise.all([
+            team.checks.list(projectId),
+            team.corrections.list(projectId),
+          ]);
+          const byName = new Map(
+            checks.map((c) => [c.dimension, { state: c.state, checker: c.checkedBy.name }]),
+          );
+          return {
+            checkOf: (name) => byName.get(name),
+            corrections: corrections.map((c) => ({
+              sheet: c.sheetId,
+              dimension: c.dimension,
+              wrong: c.wrong,
+              corrected: c.corrected,
+              reason: [c.reason, c.sourceNote ? `${c.source}: ${c.sourceNote}` : c.source]
+                .filter(Boolean)
+                .join(' — '),
+              by: c.author.name,
+              date: c.createdAt.slice(0, 10),
+            })),
+          };
+        },
+      }),
+    ),
+    sheetRoutes(db, sheets, { maxBytes: uploadMaxBytes, tempDir: deps.uploadTempDir }),
+    teamRoutes(db, team),
+    // A bundle carries every file of a project: up to 20 uploads' worth.
+    bundleRoutes(db, createBundleService({ db, storage, models, sheets, ...team }), {
+      maxBytes: uploadMaxBytes * 20,
       tempDir: deps.uploadTempDir,
     }),
   );

@@ -1,12 +1,10 @@
 // Before any test: a throwaway PostgreSQL cluster for this run (in the system temp folder, on a
-// free loopback port), a migrated template database each test file copies, and a fresh client
-// build for the browser suite. After the run the cluster is stopped and removed.
+// free loopback port) and a migrated template database each test file copies. After the run the cluster is stopped and removed.
 import { chmodSync, mkdtempSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import type { TestProject } from 'vitest/node';
 import { applyMigrations, connect } from '../server/db/client';
-import { buildClientIfStale } from '../scripts/lib/build';
 import { removeCluster, startCluster } from '../scripts/lib/system';
 import { freePort } from './helpers/net';
 
@@ -31,7 +29,6 @@ export default async function setup(project: TestProject) {
   const { db, pool } = connect(cluster.url(templateDb), 1);
   await applyMigrations(db);
   await pool.end();
-  buildClientIfStale();
 
   project.provide('pgPort', cluster.port);
   project.provide('templateDb', templateDb);

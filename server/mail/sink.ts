@@ -54,9 +54,25 @@ export interface StoredMail {
   body: string;
 }
 
+/** Decodes RFC 2047 encoded words (`=?UTF-8?Q?…?=`, `=?UTF-8?B?…?=`) in a header. */
+function decodeWords(value: string): string {
+  return value
+    .replace(/\?=\s+=\?/g, '?==?')
+    .replace(
+      /=\?([\w-]+)\?([QB])\?([^?]*)\?=/gi,
+      (_m, _charset: string, enc: string, text: string) => {
+        if (enc.toUpperCase() === 'B') return Buffer.from(text, 'base64').toString('utf8');
+        const bytes = text
+          .replace(/_/g, ' ')
+          .replace(/=([0-9A-F]{2})/gi, (_x, hex: string) => String.fromCharCode(parseInt(hex, 16)));
+        return Buffer.from(bytes, 'latin1').toString('utf8');
+      },
+    );
+}
+
 function header(raw: string, name: string): string {
   const match = raw.match(new RegExp(`^${name}:\\s*(.*(?:\\r?\\n[ \\t].*)*)`, 'im'));
-  return match ? match[1].replace(/\r?\n[ \t]+/g, ' ').trim() : '';
+  return match ? decodeWords(match[1].replace(/\r?\n[ \t]+/g, ' ').trim()) : '';
 }
 
 /** Decodes the quoted-printable bodies nodemailer writes for plain-text mail. */

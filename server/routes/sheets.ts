@@ -33,7 +33,7 @@ function formatBytes(n: number): string {
 }
 
 /** multer, with its refusals turned into the API's errors (413 over the size limit). */
-function receiveFiles(options: UploadOptions): RequestHandler {
+export function receiveFiles(options: UploadOptions): RequestHandler {
   const maxFiles = options.maxFiles ?? 20;
   const upload = multer({
     storage: multer.diskStorage({ destination: options.tempDir ?? tmpdir() }),

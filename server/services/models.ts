@@ -11,6 +11,7 @@ import { emptyModel } from '@shared/api';
 import type { Db } from '../db/client';
 import * as repo from '../db/models';
 import { conflict, notFound } from '../http/errors';
+import type { ActivityService } from './activity';
 
 /** Server solves have a time cap so one pathological model cannot hold a request. */
 const solveOptions = { timeLimitMs: 2000 };
@@ -23,7 +24,7 @@ export interface StoredModel {
   updatedBy: string | null;
 }
 
-export function createModelService(db: Db) {
+export function createModelService(db: Db, activity?: ActivityService) {
   /** Writes the first revision of a new project's model, inside the project's transaction. */
   async function initialise(
     tx: repo.DbOrTx,
@@ -85,6 +86,16 @@ export function createModelService(db: Db) {
       const summary = note ? `${note} (${summariseDiff(diff)})` : summariseDiff(diff);
       await repo.writeModel(tx, projectId, { revision, model, result, userId });
       await repo.insertRevision(tx, { projectId, revision, userId, summary, diff, model });
+      await activity?.record(
+        {
+          projectId,
+          userId,
+          kind: 'save',
+          summary: `saved revision ${revision}: ${summary}`,
+          details: { revision, diff },
+        },
+        tx,
+      );
       return { revision, result, summary };
     });
   }

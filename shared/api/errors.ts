@@ -16,6 +16,7 @@ export const errorCodes = [
   'forbidden',
   'csrf',
   'not_found',
+  'gone',
   'conflict',
   'rate_limited',
   'payload_too_large',

@@ -5,3 +5,5 @@ export * from './models';
 export * from './engine';
 export * from './sheets';
 export * from './team';
+export * from './shop-sheet';
+export * from './bundle';

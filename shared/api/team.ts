@@ -89,7 +89,14 @@ export const commentQuery = z.object({
   targetId: z.string().max(200).optional(),
 });
 
-export const correctionSource = z.enum(['another builder', 'mating part', 'photograph', 'other sheet', 'measurement', 'other']);
+export const correctionSource = z.enum([
+  'another builder',
+  'mating part',
+  'photograph',
+  'other sheet',
+  'measurement',
+  'other',
+]);
 export const correctionBody = z.object({
   sheetId: z.uuid().nullable().default(null),
   dimension: z.string().max(120).nullable().default(null),

@@ -3,6 +3,7 @@ import type { Server } from 'node:http';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { chromium, type Browser, type Page } from 'playwright-core';
+import { buildClientIfStale } from '../../scripts/lib/build';
 import { ensureChromium } from '../../scripts/lib/system';
 import { seedDemo } from '../../server/demo/seed';
 import { createTestApp, testHasher, type TestApp } from './app';
@@ -21,6 +22,8 @@ export interface BrowserRig {
 /** The real app with the built client on a loopback port, the demo seeded, and Debian's Chromium. */
 export async function startBrowserRig(): Promise<BrowserRig> {
   const executablePath = ensureChromium();
+  // Only browser files need the client; the build is skipped when dist/ is fresh.
+  buildClientIfStale();
   // The port is chosen before the app is built so links in mail carry it.
   const port = await freePort();
   const baseUrl = `http://127.0.0.1:${port}`;

@@ -1,0 +1,381 @@
+import { stringify } from 'csv-stringify/sync';
+import {
+  evaluateFeatures,
+  type FairsheetModel,
+  type FeatureLength,
+  type FeatureResult,
+  type FeatureRow,
+  type FeaturesResult,
+  type GivenKind,
+} from '@shared/engine';
+import {
+  SHOP_SHEET_CSV_COLUMNS,
+  type PaperSize,
+  type ShopSheet,
+  type ShopSheetCorrection,
+  type ShopSheetDrill,
+  type ShopSheetGroup,
+  type ShopSheetRow,
+} from '@shared/api';
+import type { ProjectRow } from '../db/schema';
+import { renderShopSheetPdf } from '../pdf/shop-sheet';
+import type { ModelService } from './models';
+
+/**
+ * What a second person has signed off. Looked up by feature id first, then by the dimension
+ * names a position is written as; `void` when an upstream change has voided the check.
+ */
+export type CheckLookup = (
+  dimensionOrFeatureName: string,
+) => { state: 'current' | 'void'; checker: string } | undefined;
+
+/** Reviews of a project's figures; checks and corrections plug in here (default: none). */
+export interface ShopSheetReviews {
+  checkOf?: CheckLookup;
+  corrections?: ShopSheetCorrection[];
+}
+
+export interface ShopSheetInput {
+  project: { id: string; name: string; modelScale: string | null };
+  revision: number;
+  date: string;
+  derivedBy: string | null;
+  model: FairsheetModel;
+}
+
+export const SHEET_CAUTIONS = [
+  'Derived dimensions are inferences from the drawing set, not measurements. Verify every position against the mating parts and the actual material before cutting.',
+  'Machine-shop safety: guards in place and eye protection on; work clamped or held in a vice, never by hand; chuck key out before starting; no gloves, loose sleeves or hair near a turning spindle; clear swarf with a brush, never fingers; stop the machine before measuring.',
+  'Spindle speeds are starting points for HSS drills at the low end of the material’s range; go slower for deep holes, long drills or a light machine, and never above the machine’s rated speed.',
+];
+
+export const PRESSURE_CAUTION =
+  'Pressure-bearing part: its design and its tests must follow the applicable boiler code and the inspection of the local club or authority. Fairsheet makes no pressure-vessel calculation; written or approved figures only.';
+
+const GLUE = ', ';
+const other = (u: 'in' | 'mm'): 'in' | 'mm' => (u === 'in' ? 'mm' : 'in');
+const toUnit = (v: number, from: 'in' | 'mm', to: 'in' | 'mm') =>
+  from === to ? v : from === 'in' ? v * 25.4 : v / 25.4;
+
+/** Inches to 4 places, millimetres to 3 (0.0001 in ≈ 0.003 mm); `−0` never shows. */
+export function formatIn(units: 'in' | 'mm', v: number): string {
+  const d = units === 'in' ? 4 : 3;
+  // Half rounds up, also for a binary near-miss (7.3125 in = 185.7375 mm → 185.738).
+  const scaled = Math.round(Math.abs(v) * 10 ** d * (1 + 1e-12)) / 10 ** d;
+  return scaled === 0 ? (0).toFixed(d) : (Math.sign(v) * scaled).toFixed(d);
+}
+
+function cell(l: FeatureLength, units: 'in' | 'mm') {
+  if (l.value === null) return { value: null, other: null, text: '—', otherText: '—' };
+  const o = toUnit(l.value, units, other(units));
+  return {
+    value: l.value,
+    other: o,
+    text: formatIn(units, l.value),
+    otherText: formatIn(other(units), o),
+  };
+}
+
+function both(v: FeatureLength, units: 'in' | 'mm'): string {
+  if (v.value === null) return '—';
+  const mark = (u: 'in' | 'mm') => (u === 'in' ? '"' : ' mm');
+  return `${formatIn(units, v.value)}${mark(units)} / ${formatIn(other(units), toUnit(v.value, units, other(units)))}${mark(other(units))}`;
+}
+
+function provenanceText(x: FeatureLength, y: FeatureLength): string {
+  const direct = [x.provenance, y.provenance];
+  if (direct.every((p) => p === 'datum')) return 'on datum';
+  const kinds = new Set<GivenKind>([...x.restsOn, ...y.restsOn]);
+  const words = (['stated', 'scaled', 'assumed', 'asbuilt'] as const)
+    .filter((k) => kinds.has(k))
+    .map((k) => (k === 'asbuilt' ? 'as built' : k));
+  if (direct.some((p) => p === 'derived'))
+    return `derived (${words.join(GLUE) || 'no given value'})`;
+  return words.join(GLUE) || 'on datum';
+}
+
+function sizeText(f: FeatureResult, units: 'in' | 'mm'): string {
+  const len = (l?: FeatureLength) => (l?.value == null ? '?' : formatIn(units, l.value));
+  switch (f.kind) {
+    case 'tapped':
+      return f.thread ? `${f.thread.designation} tapped` : 'tapped (no thread)';
+    case 'hole':
+      if (f.thread && f.clearance) return `${f.thread.designation} clearance, ${f.clearance.fit}`;
+      return f.drill ? `Ø ${f.drill.label}` : 'hole';
+    case 'slot':
+    case 'pocket':
+      return `${f.kind} ${len(f.width)} × ${len(f.length)}`;
+    default:
+      return 'edge';
+  }
+}
+
+const mm2 = (mm: number) => `${mm.toFixed(2)} mm`;
+
+function tapText(f: FeatureResult): string {
+  if (!f.tap || !f.drill) return '';
+  const d = f.drill;
+  const pct = d.percentThread === undefined ? '' : ` · ${Math.round(d.percentThread)} % thread`;
+  const chart =
+    f.tap.published && f.tap.published.label !== d.label ? ` · chart ${f.tap.published.label}` : '';
+  return `${d.label}${d.label.endsWith('mm') ? '' : ` (${mm2(d.mm)})`}${pct}${chart}`;
+}
+
+function clearanceText(f: FeatureResult): string {
+  const c = f.clearance;
+  if (!c || !f.drill) return '';
+  const wanted = c.fit === 'close' ? c.close : c.free;
+  const chart = wanted.label === c.stock.label ? '' : `; chart ${wanted.label}`;
+  return `${f.drill.label} (${c.fit}${chart})`;
+}
+
+function drillText(f: FeatureResult): string {
+  const d = f.drill;
+  if (!d) return '';
+  return d.label.endsWith('mm')
+    ? `${d.label} · ${d.inch.toFixed(4)}"`
+    : `${d.label} · ${mm2(d.mm)} · ${d.inch.toFixed(4)}"`;
+}
+
+function checkOfRow(
+  f: FeatureResult,
+  row: FeatureRow,
+  lookup: CheckLookup | undefined,
+): ShopSheetRow['check'] {
+  const none = { state: 'not-checked' as const, text: 'not checked', checkers: [] };
+  if (!lookup) return none;
+  const own = lookup(f.id);
+  // Only derived positions need a second person's check; figures as drawn stand on the drawing.
+  // A pattern's holes rest on the feature's written position (its centre or first hole).
+  const written = row.index === null ? [row.x, row.y] : [f.x, f.y];
+  const names = own ? [] : written.filter((c) => c.provenance === 'derived').map((c) => c.expr);
+  if (!own && names.length === 0) return { state: 'not-checked', text: 'as drawn', checkers: [] };
+  const found = own ? [own] : names.map((n) => lookup(n));
+  if (found.some((c) => c?.state === 'void')) {
+    return { state: 'void', text: 'CHECK VOID', checkers: [] };
+  }
+  if (found.length && found.every((c) => c?.state === 'current')) {
+    const checkers = [...new Set(found.map((c) => c!.checker))];
+    return { state: 'checked', text: `checked by ${checkers.join(GLUE)}`, checkers };
+  }
+  return none;
+}
+
+function groupCheck(rows: ShopSheetRow[]): ShopSheetGroup['check'] {
+  const n = rows.length;
+  const checked = rows.filter((r) => r.check.state === 'checked');
+  const voided = rows.filter((r) => r.check.state === 'void').length;
+  const checkers = [...new Set(checked.flatMap((r) => r.check.checkers))];
+  if (n > 0 && checked.length === n) {
+    return { state: 'checked', text: `Checked by ${checkers.join(GLUE)}`, checkers };
+  }
+  if (voided) {
+    return {
+      state: 'void',
+      text: `CHECK VOID on ${voided} of ${n} positions — NOT CHECKED`,
+      checkers,
+    };
+  }
+  return {
+    state: 'not-checked',
+    text: checked.length
+      ? `NOT CHECKED (${checked.length} of ${n} positions checked)`
+      : 'NOT CHECKED',
+    checkers,
+  };
+}
+
+/**
+ * Builds the shop sheet of a model: per part, or per stack once with its parts, the ordinate
+ * table from the datum in both units, the drills with their spindle speeds, the title block's
+ * facts and the cautions. Checks and corrections come from `reviews` (default: none).
+ */
+export function buildShopSheet(input: ShopSheetInput, reviews: ShopSheetReviews = {}): ShopSheet {
+  const units = input.model.units;
+  const evaluated: FeaturesResult = evaluateFeatures(input.model);
+  const featureById = new Map(evaluated.features.map((f) => [f.id, f]));
+
+  const groups: ShopSheetGroup[] = evaluated.groups.map((g) => {
+    const parts = g.parts.map((id) => evaluated.parts.find((p) => p.id === id)!);
+    const rows: ShopSheetRow[] = g.rows.map((row) => {
+      const f = featureById.get(row.feature)!;
+      const wc = [row.x.worstCase, row.y.worstCase].filter((v): v is number => v !== null);
+      const tol = wc.length ? Math.max(...wc) : null;
+      return {
+        feature: f.id,
+        part: f.part,
+        label: row.label,
+        kind: f.kind,
+        x: cell(row.x, units),
+        y: cell(row.y, units),
+        size: sizeText(f, units),
+        tapDrill: tapText(f),
+        clearance: clearanceText(f),
+        drill: drillText(f),
+        rpm: f.speed ? Math.round(f.speed.rpm) : null,
+        depth: f.depth === 'through' ? 'through' : both(f.depth, units),
+        tolerance: tol === null ? '—' : `±${formatIn(units, tol)}`,
+        toleranceValue: tol,
+        provenance: provenanceText(row.x, row.y),
+        check: checkOfRow(f, row, reviews.checkOf),
+        warnings: f.warnings.map((w) => w.message),
+        errors: f.errors.map((e) => e.message),
+      };
+    });
+
+    // Drills and speeds: one line per drill and material.
+    const drills = new Map<string, ShopSheetDrill>();
+    for (const row of g.rows) {
+      const f = featureById.get(row.feature)!;
+      if (!f.drill || !f.speed) continue;
+      const key = `${f.drill.label}|${f.speed.material}`;
+      const seen = drills.get(key);
+      if (seen) seen.holes += 1;
+      else {
+        drills.set(key, {
+          drill: f.drill.label,
+          mm: f.drill.mm,
+          inch: f.drill.inch,
+          material: f.speed.material,
+          vcMPerMin: f.speed.vcMPerMin,
+          rpm: Math.round(f.speed.rpm),
+          holes: 1,
+          source: f.speed.source,
+        });
+      }
+    }
+
+    const pressureFeatures = g.pressureFeatures.map((id) => {
+      const f = featureById.get(id)!;
+      const names = [...new Set(f.warnings.flatMap((w) => w.names ?? []))];
+      const kindOf = new Map(input.model.dimensions.map((d) => [d.name, d.kind]));
+      return {
+        label: f.label,
+        restsOn: names.length
+          ? names.map((n) => `${n} (${kindOf.get(n)})`).join(GLUE)
+          : 'a figure typed on the feature',
+      };
+    });
+    const cautions = g.pressure
+      ? [
+          PRESSURE_CAUTION,
+          pressureFeatures.length
+            ? `For the inspector: ${pressureFeatures.length} ${pressureFeatures.length === 1 ? 'feature rests' : 'features rest'} on scaled or assumed values (listed below).`
+            : 'For the inspector: no position of this part rests on a scaled or assumed value.',
+        ]
+      : [];
+
+    const title =
+      parts.length > 1
+        ? `${parts.map((p) => p.name).join(' + ')} (stack ${g.stack})`
+        : (parts[0]?.name ?? g.id);
+    return {
+      id: g.id,
+      title,
+      stack: g.stack,
+      parts: parts.map((p) => ({
+        id: p.id,
+        name: p.name,
+        material: p.materialName ?? p.material,
+        quantity: p.quantity,
+        pressure: p.pressure,
+        drillSet: p.drillSet,
+        notes: p.notes ?? null,
+        width: p.width?.value ?? null,
+        height: p.height?.value ?? null,
+      })),
+      pressure: g.pressure,
+      check: groupCheck(rows),
+      rows,
+      drills: [...drills.values()].sort((a, b) => a.mm - b.mm),
+      pressureFeatures,
+      cautions,
+    };
+  });
+
+  return {
+    project: input.project,
+    revision: input.revision,
+    date: input.date,
+    derivedBy: input.derivedBy,
+    units,
+    otherUnits: other(units),
+    status: evaluated.status,
+    order: evaluated.order,
+    corrections: reviews.corrections ?? [],
+    cautions: SHEET_CAUTIONS,
+    groups,
+  };
+}
+
+/** One CSV line per hole, columns `SHOP_SHEET_CSV_COLUMNS`, inches and millimetres both. */
+export function shopSheetCsv(sheet: ShopSheet): string {
+  const inch = sheet.units === 'in';
+  const records = sheet.groups.flatMap((g) =>
+    g.rows.map((r) => {
+      const [xIn, xMm] = inch ? [r.x.text, r.x.otherText] : [r.x.otherText, r.x.text];
+      const [yIn, yMm] = inch ? [r.y.text, r.y.otherText] : [r.y.otherText, r.y.text];
+      const blank = (s: string) => (s === '—' ? '' : s);
+      return {
+        group: g.id,
+        part: r.part,
+        feature: r.feature,
+        label: r.label,
+        kind: r.kind,
+        x_in: blank(xIn),
+        y_in: blank(yIn),
+        x_mm: blank(xMm),
+        y_mm: blank(yMm),
+        size: r.size,
+        tap_drill: r.tapDrill,
+        clearance: r.clearance,
+        drill: r.drill,
+        rpm: r.rpm ?? '',
+        depth: r.depth,
+        tolerance: r.tolerance === '—' ? '' : r.tolerance,
+        provenance: r.provenance,
+        check: r.check.text,
+        warnings: [...r.errors, ...r.warnings].join(' | '),
+      };
+    }),
+  );
+  return stringify(records, { header: true, columns: [...SHOP_SHEET_CSV_COLUMNS] });
+}
+
+export function createShopSheetService(
+  models: ModelService,
+  options: { reviews?: (projectId: string) => Promise<ShopSheetReviews> } = {},
+) {
+  async function sheet(project: ProjectRow): Promise<ShopSheet> {
+    const stored = await models.current(project.id);
+    const reviews = options.reviews ? await options.reviews(project.id) : {};
+    return buildShopSheet(
+      {
+        project: { id: project.id, name: project.name, modelScale: project.modelScale ?? null },
+        revision: stored.revision,
+        date: stored.updatedAt,
+        derivedBy: stored.updatedBy,
+        model: stored.model,
+      },
+      reviews,
+    );
+  }
+
+  return {
+    sheet,
+    render: (s: ShopSheet, paper: PaperSize): Promise<Buffer> => renderShopSheetPdf(s, paper),
+    toCsv: shopSheetCsv,
+  };
+}
+
+export type ShopSheetService = ReturnType<typeof createShopSheetService>;
+
+/** A file name from the project's name and revision: `Kestrel-5-in-gauge-r3-shop-sheet.pdf`. */
+export function shopSheetFileName(sheet: ShopSheet, ext: 'pdf' | 'csv'): string {
+  const stem =
+    sheet.project.name
+      .replace(/[^\w.-]+/g, '-')
+      .replace(/^-+|-+$/g, '')
+      .slice(0, 60) || 'project';
+  return `${stem}-r${sheet.revision}-shop-sheet.${ext}`;
+}
