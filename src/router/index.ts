@@ -32,6 +32,13 @@ export const router = createRouter({
       component: () => import('@/views/ResetPasswordView.vue'),
       meta: { public: true },
     },
+    {
+      path: '/invitations/:token',
+      name: 'invitation',
+      component: () => import('@/views/InvitationView.vue'),
+      props: true,
+      meta: { public: true },
+    },
     { path: '/projects', name: 'projects', component: () => import('@/views/ProjectsView.vue') },
     {
       path: '/projects/:projectId',
@@ -60,11 +67,41 @@ export const router = createRouter({
           component: () => import('@/views/ProjectSheetsView.vue'),
         },
         {
+          path: 'parts',
+          name: 'project-parts',
+          component: () => import('@/views/ProjectPartsView.vue'),
+        },
+        {
+          path: 'parts/:partId',
+          name: 'project-part',
+          component: () => import('@/views/PartView.vue'),
+          props: true,
+        },
+        {
           path: 'sheets/:sheetId',
           name: 'project-sheet',
           component: () => import('@/views/SheetView.vue'),
         },
+        {
+          path: 'team',
+          name: 'project-team',
+          component: () => import('@/views/ProjectTeamView.vue'),
+          props: true,
+        },
+        {
+          path: 'activity',
+          name: 'project-activity',
+          component: () => import('@/views/ProjectActivityView.vue'),
+          props: true,
+        },
       ],
+    },
+    {
+      // Outside the project layout: the page is the sheet, ready to print.
+      path: '/projects/:projectId/shop-sheet/print',
+      name: 'shop-sheet-print',
+      component: () => import('@/views/ShopSheetPrintView.vue'),
+      props: true,
     },
     {
       path: '/:pathMatch(.*)*',

@@ -54,13 +54,13 @@ describe('the dimensions workspace, in a real browser', () => {
     await expect.poll(() => strip.innerText()).toMatch(/more dimension/);
     expect(await page.getByTestId('contradiction').count()).toBe(0);
     expect(await page.getByLabel('Value of rear_overhang', { exact: true }).inputValue()).toBe(
-      '15 7/8',
+      '13',
     );
 
-    // 5 3/8 + 9 1/4 = 14 5/8 for the trailing horn; a longer wheelbase moves it on screen.
-    expect(await rowText(page, 'horn2_x')).toContain('14.6250"');
-    await setValue(page, 'wheelbase', '10 1/4');
-    await expect.poll(() => rowText(page, 'horn2_x')).toContain('15.6250"');
+    // 8 3/4 + 8 1/2 = 17 1/4 for the trailing horn; a longer wheelbase moves it on screen.
+    expect(await rowText(page, 'horn2_x')).toContain('17.2500"');
+    await setValue(page, 'wheelbase', '9 1/2');
+    await expect.poll(() => rowText(page, 'horn2_x')).toContain('18.2500"');
 
     // The photo check and the overall both disagree now: the wheelbase explains both.
     await expect.poll(() => page.getByTestId('contradiction').count()).toBeGreaterThan(0);
@@ -78,8 +78,9 @@ describe('the dimensions workspace, in a real browser', () => {
     expect(await page.getByTestId('detail-wc').innerText()).toMatch(/±0\.0\d{3}/);
     await screenshot(page, 'workspace-stackup');
 
+    const saved = Number((await strip.innerText()).match(/revision (\d+)/)![1]) + 1;
     await page.getByRole('button', { name: 'Save', exact: true }).click();
-    await expect.poll(() => strip.innerText()).toMatch(/revision 2/);
+    await expect.poll(() => strip.innerText()).toMatch(new RegExp(`revision ${saved}`));
     await page.context().close();
   });
 
@@ -97,7 +98,7 @@ describe('the dimensions workspace, in a real browser', () => {
     await b.getByRole('button', { name: 'Save', exact: true }).click();
     const dialog = b.getByTestId('conflict-dialog');
     await dialog.waitFor();
-    expect(await dialog.innerText()).toMatch(/horn_gap value 2 1\/16 → 2 1\/8/);
+    expect(await dialog.innerText()).toMatch(/horn_gap value 2 1\/4 → 2 1\/8/);
     expect(await dialog.innerText()).toMatch(/bolt_edge value 5\/16 → 3\/8/);
     await screenshot(b, 'workspace-conflict');
     await b.getByRole('button', { name: 'Re-apply my changes on theirs' }).click();
