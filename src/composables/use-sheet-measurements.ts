@@ -67,6 +67,8 @@ export function useSheetMeasurements() {
     if (clash.kind === 'scaled' && clash.sheet === sheets.current?.id && ours) {
       return `${name} is already measured on this sheet; pick it in the list to re-measure it`;
     }
+    // Measuring an unknown is how a missing dimension gets found: it becomes a scaled figure.
+    if (clash.kind === 'derived') return '';
     return `There is already a ${clash.kind} dimension named ${name}`;
   }
 
