@@ -1,18 +1,9 @@
 import { readFile } from 'node:fs/promises';
 import type { Readable } from 'node:stream';
-import {
-  CalibrationError,
-  checkCalibration,
-  fitHomography,
-  parseModelScale,
-  perAxisScale,
-  twoPointScale,
-  type ReferenceLength,
-  type SheetCalibration,
-} from '@shared/engine';
+import { CalibrationError, type SheetCalibration } from '@shared/engine';
 import type { z } from 'zod';
+import { buildSheetCalibration } from '@shared/api';
 import type {
-  KnownLength,
   Measurement,
   Pin,
   Sheet,
@@ -97,45 +88,12 @@ function refusal(name: string, err: InspectionError): AppError {
   return new AppError('unprocessable', `“${name}”: ${err.message}`, 422, details);
 }
 
-function referenceOf(k: KnownLength): ReferenceLength {
-  return { a: k.a, b: k.b, lengthMm: k.lengthMm, toleranceMm: k.tolMm };
-}
-
 /**
  * Builds the engine's calibration from the stored form, so a degenerate one (coincident picks,
  * a crossed or collinear four-point, a scale that does not parse) is refused when saved.
  */
 export function engineCalibration(c: SheetCalibrationDto): SheetCalibration {
-  const options = { pickErrorPx: c.pickErrorPx };
-  let cal: SheetCalibration;
-  switch (c.method) {
-    case 'two-point':
-      cal = twoPointScale(referenceOf(c.reference), options);
-      break;
-    case 'per-axis':
-      cal = perAxisScale(
-        { horizontal: referenceOf(c.horizontal), vertical: referenceOf(c.vertical) },
-        options,
-      );
-      break;
-    case 'four-point': {
-      const [w, h] = [c.widthMm, c.heightMm];
-      const plane = [
-        { x: 0, y: 0 },
-        { x: w, y: 0 },
-        { x: w, y: h },
-        { x: 0, y: h },
-      ];
-      cal = fitHomography(
-        c.corners.map((px, i) => ({ px, mm: plane[i] })),
-        options,
-      );
-      break;
-    }
-  }
-  if (c.checks.length) checkCalibration(cal, c.checks.map(referenceOf));
-  if (c.modelScale) parseModelScale(c.modelScale);
-  return cal;
+  return buildSheetCalibration(c).cal;
 }
 
 function checkPinsAndMeasurements(pins: Pin[], measurements: Measurement[]) {

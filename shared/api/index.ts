@@ -7,3 +7,4 @@ export * from './sheets';
 export * from './team';
 export * from './shop-sheet';
 export * from './bundle';
+export * from './sheet-calibration';

@@ -1,32 +1,22 @@
-import type { KnownLength, SheetCalibrationDto } from '@shared/api';
+import {
+  buildSheetCalibration,
+  referenceOf,
+  type BuiltCalibration,
+  type SheetCalibrationDto,
+} from '@shared/api';
 import {
   CalibrationError,
   QuantityError,
   checkCalibration,
   convertLength,
-  fitHomography,
   measureBetweenPins,
   parseModelScale,
   parseQuantity,
-  perAxisScale,
   prototypeToModel,
-  twoPointScale,
   type CalibrationCheck,
   type ModelUnit,
-  type ReferenceLength,
-  type SheetCalibration,
   type SheetPoint,
 } from '@shared/engine';
-
-/** A sheet's stored calibration turned into the engine's mapping, with its model scale. */
-export interface BuiltCalibration {
-  cal: SheetCalibration;
-  /** model / full size: 1 for a drawing, 1/8 for a photo of the full-size engine at 1:8. */
-  ratio: number;
-  /** "1:8" when the sheet is a photo of the prototype; null for a drawing. */
-  scaleLabel: string | null;
-  pickErrorPx: number;
-}
 
 export interface CalibrationResidual {
   checks: readonly CalibrationCheck[];
@@ -43,53 +33,10 @@ export interface SheetMeasure {
   limitedByFloor: boolean;
 }
 
-export const referenceOf = (k: KnownLength): ReferenceLength => ({
-  a: k.a,
-  b: k.b,
-  lengthMm: k.lengthMm,
-  toleranceMm: k.tolMm ?? 0,
-});
+export { referenceOf, type BuiltCalibration };
 
-/**
- * The engine's calibration for a stored one. Throws the engine's CalibrationError (with a
- * message for the builder) when the picks cannot define a mapping.
- */
-export function buildCalibration(dto: SheetCalibrationDto): BuiltCalibration {
-  const opts = { pickErrorPx: dto.pickErrorPx ?? 2 };
-  let cal: SheetCalibration;
-  switch (dto.method) {
-    case 'two-point':
-      cal = twoPointScale(referenceOf(dto.reference), opts);
-      break;
-    case 'per-axis':
-      cal = perAxisScale(
-        { horizontal: referenceOf(dto.horizontal), vertical: referenceOf(dto.vertical) },
-        opts,
-      );
-      break;
-    case 'four-point': {
-      const [w, h] = [dto.widthMm, dto.heightMm];
-      const plane = [
-        { x: 0, y: 0 },
-        { x: w, y: 0 },
-        { x: w, y: h },
-        { x: 0, y: h },
-      ];
-      cal = fitHomography(
-        dto.corners.map((px, i) => ({ px, mm: plane[i] })),
-        opts,
-      );
-      break;
-    }
-  }
-  const scale = dto.modelScale ? parseModelScale(dto.modelScale) : null;
-  return {
-    cal,
-    ratio: scale?.ratio ?? 1,
-    scaleLabel: scale?.label ?? null,
-    pickErrorPx: opts.pickErrorPx,
-  };
-}
+/** The engine's calibration for a stored one (shared with the server). */
+export const buildCalibration = buildSheetCalibration;
 
 /** Builds a calibration, answering the error message instead of throwing. */
 export function tryBuildCalibration(dto: SheetCalibrationDto | null): {
