@@ -258,6 +258,26 @@ describe('comments, corrections and activity', () => {
     ).toBe(400);
   });
 
+  it('comments attach to a relation, a pin or a sheet as well, each listed with its own target', async () => {
+    const targets = [
+      { targetKind: 'relation', targetId: 'b' },
+      { targetKind: 'pin', targetId: '00000000-0000-4000-8000-000000000001:p1' },
+      { targetKind: 'sheet', targetId: '00000000-0000-4000-8000-000000000001' },
+    ];
+    for (const t of targets)
+      await checker
+        .post(url('/comments'), { ...t, body: `About this ${t.targetKind}.` })
+        .expect(201);
+    for (const t of targets) {
+      const list = (
+        await viewer.get(
+          url(`/comments?targetKind=${t.targetKind}&targetId=${encodeURIComponent(t.targetId)}`),
+        )
+      ).body.comments;
+      expect(list.map((c: { body: string }) => c.body)).toEqual([`About this ${t.targetKind}.`]);
+    }
+  });
+
   it('a correction records what was wrong, what it became, who, why and from where', async () => {
     const res = await owner.post(url('/corrections'), {
       dimension: 'pitch',

@@ -78,6 +78,14 @@ describe('the dimensions workspace, in a real browser', () => {
     expect(await page.getByTestId('detail-wc').innerText()).toMatch(/±0\.0\d{3}/);
     await screenshot(page, 'workspace-stackup');
 
+    // A question about a relation, beside it.
+    await page.getByRole('button', { name: 'Comments on relation overall' }).click();
+    const thread = page.getByRole('region', { name: 'Comments on overall' });
+    await thread.locator('textarea').fill('Is 30 1/4 the plate before or after the buffer beam?');
+    await thread.getByRole('button', { name: 'Post comment' }).click();
+    await thread.getByText('Is 30 1/4 the plate').waitFor();
+    await screenshot(page, 'workspace-relation-comment');
+
     const saved = Number((await strip.innerText()).match(/revision (\d+)/)![1]) + 1;
     await page.getByRole('button', { name: 'Save', exact: true }).click();
     await expect.poll(() => strip.innerText()).toMatch(new RegExp(`revision ${saved}`));
