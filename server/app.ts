@@ -1,4 +1,5 @@
 import express, { type Express } from 'express';
+import helmet from 'helmet';
 import { existsSync } from 'node:fs';
 import path from 'node:path';
 import type { PasswordHasher } from './auth/passwords';
@@ -62,6 +63,31 @@ export function createApp(deps: AppDeps): Express {
   const { db, pool } = deps.database;
   const app = express();
   app.disable('x-powered-by');
+  // Everything the client needs is shipped with it: scripts, fonts and workers come from our own
+  // origin only. Naive UI sets styles at run time (hence inline styles); pdf.js may compile
+  // WebAssembly decoders; canvases and previews use blob: and data: images.
+  app.use(
+    helmet({
+      contentSecurityPolicy: {
+        useDefaults: false,
+        directives: {
+          defaultSrc: ["'self'"],
+          scriptSrc: ["'self'", "'wasm-unsafe-eval'"],
+          styleSrc: ["'self'", "'unsafe-inline'"],
+          imgSrc: ["'self'", 'data:', 'blob:'],
+          fontSrc: ["'self'", 'data:'],
+          connectSrc: ["'self'"],
+          workerSrc: ["'self'", 'blob:'],
+          objectSrc: ["'none'"],
+          baseUri: ["'self'"],
+          formAction: ["'self'"],
+          frameAncestors: ["'none'"],
+        },
+      },
+      // Plain http on loopback in development: no HSTS, no upgrade.
+      strictTransportSecurity: deps.production,
+    }),
+  );
   if (deps.trustProxy) app.set('trust proxy', parseTrustProxy(deps.trustProxy));
 
   const auth = createAuthService({

@@ -36,6 +36,16 @@ describe('sessions and CSRF', () => {
     expect(res.status).toBe(403);
   });
 
+  it('answers with a Content-Security-Policy that allows only our own origin', async () => {
+    const res = await new TestClient(t.app).get('/api/health').expect(200);
+    const csp = String(res.headers['content-security-policy']);
+    expect(csp).toContain("default-src 'self'");
+    expect(csp).toContain("script-src 'self' 'wasm-unsafe-eval'");
+    expect(csp).toContain("frame-ancestors 'none'");
+    expect(res.headers['x-powered-by']).toBeUndefined();
+    expect(res.headers['x-content-type-options']).toBe('nosniff');
+  });
+
   it('GET /api/health answers ok with the database up', async () => {
     const res = await new TestClient(t.app).get('/api/health').expect(200);
     expect(res.body).toEqual({ ok: true, db: 'up' });
