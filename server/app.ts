@@ -1,5 +1,6 @@
 import express, { type Express } from 'express';
 import helmet from 'helmet';
+import { pinoHttp } from 'pino-http';
 import { existsSync } from 'node:fs';
 import path from 'node:path';
 import type { PasswordHasher } from './auth/passwords';
@@ -50,6 +51,10 @@ export interface AppDeps {
   /** Built client (vite build output) to serve with an SPA fallback. */
   clientDir?: string;
   trustProxy?: string;
+  /** Request log level (pino); tests leave it silent. */
+  logLevel?: 'silent' | 'error' | 'warn' | 'info' | 'debug';
+  /** Where request logs go (default standard output). */
+  logStream?: NodeJS.WritableStream;
 }
 
 function parseTrustProxy(value: string): boolean | number | string {
@@ -63,6 +68,35 @@ export function createApp(deps: AppDeps): Express {
   const { db, pool } = deps.database;
   const app = express();
   app.disable('x-powered-by');
+  // One structured line per request. Cookies, CSRF tokens and credentials never reach the log;
+  // bodies (passwords, reset tokens) are not logged at all.
+  app.use(
+    pinoHttp(
+      {
+        level: deps.logLevel ?? 'silent',
+        redact: {
+          paths: [
+            'req.headers.cookie',
+            'req.headers.authorization',
+            'req.headers["x-csrf-token"]',
+            'res.headers["set-cookie"]',
+          ],
+          censor: '[hidden]',
+        },
+        serializers: {
+          req: (req: { method: string; url: string; id: unknown }) => ({
+            id: req.id,
+            method: req.method,
+            url: req.url
+              .replace(/([?&]token=)[^&]+/, '$1[hidden]')
+              .replace(/(\/invitations\/)[\w-]{20,}/, '$1[hidden]'),
+          }),
+        },
+        autoLogging: { ignore: (req) => req.url === '/api/health' },
+      },
+      deps.logStream,
+    ),
+  );
   // Everything the client needs is shipped with it: scripts, fonts and workers come from our own
   // origin only. Naive UI sets styles at run time (hence inline styles); pdf.js may compile
   // WebAssembly decoders; canvases and previews use blob: and data: images.

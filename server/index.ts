@@ -65,6 +65,7 @@ export async function startServer(env: Env, databaseUrl: string): Promise<Runnin
     mailDir: sink ? mailDir : undefined,
     clientDir: fileURLToPath(new URL('../dist', import.meta.url)),
     trustProxy: env.TRUST_PROXY,
+    logLevel: env.LOG_LEVEL,
   });
 
   const server: Server = await new Promise((resolve, reject) => {
