@@ -53,6 +53,8 @@ export interface AppDeps {
   trustProxy?: string;
   /** Request log level (pino); tests leave it silent. */
   logLevel?: 'silent' | 'error' | 'warn' | 'info' | 'debug';
+  /** Solves one user may ask for a minute (default 120). */
+  solvesPerMinute?: number;
   /** Where request logs go (default standard output). */
   logStream?: NodeJS.WritableStream;
 }
@@ -158,7 +160,7 @@ export function createApp(deps: AppDeps): Express {
   api.use(sessionMiddleware({ pool, secret: deps.sessionSecret, secure: deps.production }));
   api.use(requireCsrf);
   api.use('/auth', authRoutes(db, auth));
-  api.use(engineRoutes(db));
+  api.use(engineRoutes(db, { solvesPerMinute: deps.solvesPerMinute }));
   api.use('/invitations', invitationLinkRoutes(db, invitations));
   api.use(
     '/projects',

@@ -22,6 +22,8 @@ const schema = z.object({
   BCRYPT_COST: z.coerce.number().int().min(4).max(15).default(12),
   /** Express `trust proxy` setting: unset (no proxy), a hop count, or a list of addresses. */
   TRUST_PROXY: z.string().optional(),
+  /** POST /api/solve per signed-in user per minute. */
+  SOLVE_RATE_LIMIT: z.coerce.number().int().positive().default(120),
   LOG_LEVEL: z.enum(['silent', 'error', 'warn', 'info', 'debug']).default('info'),
   FAIRSHEET_SEED_DEMO: z
     .enum(['0', '1', 'true', 'false'])

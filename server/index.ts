@@ -66,6 +66,7 @@ export async function startServer(env: Env, databaseUrl: string): Promise<Runnin
     clientDir: fileURLToPath(new URL('../dist', import.meta.url)),
     trustProxy: env.TRUST_PROXY,
     logLevel: env.LOG_LEVEL,
+    solvesPerMinute: env.SOLVE_RATE_LIMIT,
   });
 
   const server: Server = await new Promise((resolve, reject) => {

@@ -20,6 +20,18 @@ export async function findModel(db: DbOrTx, projectId: string) {
   return row;
 }
 
+/** Just the revision number: the cheap question before a cached answer is reused. */
+export async function findModelRevision(
+  db: DbOrTx,
+  projectId: string,
+): Promise<number | undefined> {
+  const [row] = await db
+    .select({ revision: projectModels.revision })
+    .from(projectModels)
+    .where(eq(projectModels.projectId, projectId));
+  return row?.revision;
+}
+
 /** Locks the model row for the rest of the transaction, so two saves cannot interleave. */
 export async function lockModel(tx: Tx, projectId: string) {
   const [row] = await tx

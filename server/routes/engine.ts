@@ -19,7 +19,7 @@ import { validate } from '../http/validate';
 const solveTimeLimitMs = 2000;
 
 /** Stateless engine surfaces: solve a posted model, and the thread and drill tables. */
-export function engineRoutes(db: Db): Router {
+export function engineRoutes(db: Db, options: { solvesPerMinute?: number } = {}): Router {
   const router = Router();
 
   router.post(
@@ -27,7 +27,7 @@ export function engineRoutes(db: Db): Router {
     requireUser,
     rateLimit({
       windowMs: 60_000,
-      limit: 120,
+      limit: options.solvesPerMinute ?? 120,
       standardHeaders: 'draft-8',
       legacyHeaders: false,
       store: new PostgresRateLimitStore(db, 'solve'),

@@ -14,8 +14,15 @@ export function modelRoutes(db: Db, models: ModelService): Router {
   const readers = requireProjectRole(db);
   const writers = requireProjectRole(db, editors);
 
-  router.get('/:projectId/model', params, readers, async (_req, res) => {
-    res.json(await models.current(access(res.locals).project.id));
+  router.get('/:projectId/model', params, readers, async (req, res) => {
+    const { etag, body } = await models.currentJson(access(res.locals).project.id);
+    // Revalidated on every use (the revision may move), but unchanged models cost one small query.
+    res.set({ ETag: etag, 'Cache-Control': 'private, no-cache' });
+    if (req.get('if-none-match') === etag) {
+      res.status(304).end();
+      return;
+    }
+    res.type('application/json').send(body);
   });
 
   router.put(

@@ -16,6 +16,24 @@ import type { ActivityService } from './activity';
 /** Server solves have a time cap so one pathological model cannot hold a request. */
 const solveOptions = { timeLimitMs: 2000 };
 
+/** A result without the per-value traces and contributors (which grow with chain length). */
+function slimResult(result: SolveResult) {
+  const values: Record<
+    string,
+    Pick<SolveResult['values'][string], 'value' | 'worstCase' | 'rss' | 'kind' | 'quantity'>
+  > = {};
+  for (const [name, v] of Object.entries(result.values)) {
+    values[name] = {
+      value: v.value,
+      worstCase: v.worstCase,
+      rss: v.rss,
+      kind: v.kind,
+      quantity: v.quantity,
+    };
+  }
+  return { ...result, values };
+}
+
 export interface StoredModel {
   revision: number;
   model: FairsheetModel;
@@ -61,6 +79,32 @@ export function createModelService(db: Db, activity?: ActivityService) {
    * revision and model) when someone saved first; otherwise solved, diffed and written with a
    * history entry. Saving an unchanged model writes nothing and answers the same revision.
    */
+  // The serialised answer of each project's current revision. Keyed by the revision read from
+  // the database, so another instance's save is never hidden; a small bound keeps memory flat.
+  const cachedJson = new Map<string, { revision: number; etag: string; body: string }>();
+  const cacheLimit = 200;
+
+  /** The current model as JSON text with an ETag, serialised once per revision. */
+  async function currentJson(projectId: string) {
+    const revision = await repo.findModelRevision(db, projectId);
+    if (revision === undefined) throw notFound('The model');
+    const hit = cachedJson.get(projectId);
+    if (hit && hit.revision === revision) return hit;
+    const stored = await current(projectId);
+    // The browser solves the model itself (traces, contributors, stack-up charts); the answer
+    // carries the server's verdict and values only, which keeps a 2,000-dimension model small.
+    const body = JSON.stringify({ ...stored, result: stored.result && slimResult(stored.result) });
+    const entry = {
+      revision: stored.revision,
+      etag: `"m${stored.revision}-${stored.updatedAt}"`,
+      body,
+    };
+    cachedJson.delete(projectId);
+    cachedJson.set(projectId, entry);
+    if (cachedJson.size > cacheLimit) cachedJson.delete(cachedJson.keys().next().value!);
+    return entry;
+  }
+
   async function save(
     projectId: string,
     userId: string,
@@ -137,7 +181,7 @@ export function createModelService(db: Db, activity?: ActivityService) {
     return save(projectId, userId, baseRevision, old.model, `restored revision ${target}`);
   }
 
-  return { initialise, current, save, history, revision, compare, restore };
+  return { initialise, current, currentJson, save, history, revision, compare, restore };
 }
 
 export type ModelService = ReturnType<typeof createModelService>;

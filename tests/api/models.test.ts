@@ -106,6 +106,20 @@ describe('the model and its revisions', () => {
     await owner.put(url('/model'), { revision: res.body.revision, model }).expect(200);
   });
 
+  it('GET /model answers an ETag; an unchanged model revalidates with 304, a save changes it', async () => {
+    const first = await viewer.get(url('/model')).expect(200);
+    const etag = first.headers.etag;
+    expect(etag).toMatch(/^"m\d+-/);
+    await viewer.get(url('/model')).set('If-None-Match', etag).expect(304);
+    const model = structuredClone(first.body.model);
+    model.dimensions[0].label = 'Overall, from the title block';
+    await owner.put(url('/model'), { revision: first.body.revision, model }).expect(200);
+    const after = await viewer.get(url('/model')).set('If-None-Match', etag).expect(200);
+    expect(after.headers.etag).not.toBe(etag);
+    expect(after.body.model.dimensions[0].label).toBe('Overall, from the title block');
+    expect(after.body.revision).toBe(first.body.revision + 1);
+  });
+
   it('viewers cannot save (403) and strangers see nothing (404)', async () => {
     const current = (await owner.get(url('/model'))).body;
     expect(
