@@ -3,15 +3,10 @@ import { mkdtempSync, readdirSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import type { Readable } from 'node:stream';
-import S3rver from 's3rver';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import {
-  BlobNotFoundError,
-  createLocalStorage,
-  createS3Storage,
-  type BlobStorage,
-} from '../../server/storage';
+import { BlobNotFoundError, createLocalStorage, type BlobStorage } from '../../server/storage';
 import { createTestApp, TestClient, type TestApp } from '../helpers/app';
+import { startFakeS3, type FakeS3 } from '../helpers/s3';
 import { makePng } from '../helpers/sheet-files';
 
 const sha = (b: Buffer) => createHash('sha256').update(b).digest('hex');
@@ -25,35 +20,13 @@ async function read(stream: Readable): Promise<Buffer> {
 const scratch = mkdtempSync(path.join(tmpdir(), 'fairsheet-storage-test-'));
 afterAll(() => rmSync(scratch, { recursive: true, force: true }));
 
-// A local fake S3 (s3rver, on loopback, its objects in a temp folder) for the S3 path.
-const bucket = 'fairsheet-test';
-let fake: S3rver;
-let s3Endpoint = '';
-
+let fake: FakeS3;
 beforeAll(async () => {
-  fake = new S3rver({
-    address: '127.0.0.1',
-    port: 0,
-    silent: true,
-    directory: path.join(scratch, 's3rver'),
-    configureBuckets: [{ name: bucket, configs: [] }],
-  });
-  const { port } = await fake.run();
-  s3Endpoint = `http://127.0.0.1:${port}`;
+  fake = await startFakeS3();
 });
 afterAll(() => fake?.close());
 
-function s3Storage(prefix = 'blobs/'): BlobStorage {
-  return createS3Storage({
-    bucket,
-    endpoint: s3Endpoint,
-    region: 'us-east-1',
-    // s3rver's built-in account.
-    credentials: { accessKeyId: 'S3RVER', secretAccessKey: 'S3RVER' },
-    forcePathStyle: true,
-    prefix,
-  });
-}
+const s3Storage = (prefix?: string) => fake.storage(prefix);
 
 /** The contract every storage keeps, run against each kind. */
 function storageContract(name: string, make: () => BlobStorage) {
