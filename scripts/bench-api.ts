@@ -1,7 +1,9 @@
 // `npm run bench:api`: the app in its own process on loopback (a throwaway cluster, demo seeded),
 // then autocannon with 50 connections for 20 s each on GET /api/projects/:id/model of a generated
 // 2,000-dimension project and on POST /api/solve of the demo model. Prints requests/s, p50, p99,
-// errors and the server's RSS; the last line is one JSON object.
+// errors, the server's CPU time per request and its RSS; the last line is one JSON object.
+// BENCH_SECONDS shortens the runs; BENCH_NODE_ARGS passes flags to the server's node
+// (e.g. `--cpu-prof --cpu-prof-dir=/tmp/prof` to see where its time goes).
 import { spawn } from 'node:child_process';
 import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { createServer } from 'node:net';
@@ -43,6 +45,12 @@ function generatedModel(n: number) {
   return { format: 'fairsheet.model', version: 1, units: 'in', dimensions, relations };
 }
 
+/** User + system CPU time the process has used, ms (from /proc, clock ticks of 10 ms). */
+function cpuMs(pid: number): number {
+  const fields = readFileSync(`/proc/${pid}/stat`, 'utf8').split(') ')[1].split(' ');
+  return (Number(fields[11]) + Number(fields[12])) * 10;
+}
+
 function rssMb(pid: number): number {
   const m = readFileSync(`/proc/${pid}/status`, 'utf8').match(/VmRSS:\s+(\d+) kB/);
   return m ? Number(m[1]) / 1024 : NaN;
@@ -52,21 +60,30 @@ async function main() {
   const dataDir = mkdtempSync(path.join(tmpdir(), 'fairsheet-bench-'));
   const port = await freePort();
   const base = `http://127.0.0.1:${port}`;
-  const server = spawn(process.execPath, ['--import', 'tsx', 'scripts/start.ts'], {
-    cwd: projectRoot,
-    env: {
-      ...process.env,
-      PORT: String(port),
-      FAIRSHEET_DATA_DIR: dataDir,
-      FAIRSHEET_PG_PORT: String(await freePort()),
-      FAIRSHEET_SMTP_PORT: String(await freePort()),
-      LOG_LEVEL: 'silent',
-      BCRYPT_COST: '4',
-      // The bench is one user asking as fast as it can; the limit is what it measures around.
-      SOLVE_RATE_LIMIT: '100000000',
+  const server = spawn(
+    process.execPath,
+    [
+      ...(process.env.BENCH_NODE_ARGS ?? '').split(' ').filter(Boolean),
+      '--import',
+      'tsx',
+      'scripts/start.ts',
+    ],
+    {
+      cwd: projectRoot,
+      env: {
+        ...process.env,
+        PORT: String(port),
+        FAIRSHEET_DATA_DIR: dataDir,
+        FAIRSHEET_PG_PORT: String(await freePort()),
+        FAIRSHEET_SMTP_PORT: String(await freePort()),
+        LOG_LEVEL: 'silent',
+        BCRYPT_COST: '4',
+        // The bench is one user asking as fast as it can; the limit is what it measures around.
+        SOLVE_RATE_LIMIT: '100000000',
+      },
+      stdio: ['ignore', 'pipe', 'inherit'],
     },
-    stdio: ['ignore', 'pipe', 'inherit'],
-  });
+  );
   try {
     for (let i = 0; ; i++) {
       if ((await fetch(`${base}/api/health`).catch(() => null))?.ok) break;
@@ -103,27 +120,40 @@ async function main() {
       { revision: 0, model: generatedModel(2000) },
       csrfToken,
     );
-    const size = (
-      await (
-        await fetch(`${base}/api/projects/${project.id}/model`, { headers: { Cookie: cookie } })
-      ).text()
-    ).length;
+    // fetch asks for gzip and unpacks it: the header is the wire size, the text the JSON's.
+    const modelProbe = await fetch(`${base}/api/projects/${project.id}/model`, {
+      headers: { Cookie: cookie },
+    });
+    const wireSize = Number(modelProbe.headers.get('content-length'));
+    const size = (await modelProbe.text()).length;
 
-    const run = (title: string, opts: Partial<autocannon.Options>) =>
-      autocannon({
+    const run = (title: string, opts: Partial<autocannon.Options>) => {
+      const cpuBefore = cpuMs(server.pid!);
+      return autocannon({
         url: base,
         connections: 50,
         duration: seconds,
-        headers: { Cookie: cookie, 'X-CSRF-Token': csrfToken, 'Content-Type': 'application/json' },
+        headers: {
+          Cookie: cookie,
+          'X-CSRF-Token': csrfToken,
+          'Content-Type': 'application/json',
+          // As every browser asks; the model route answers its cached gzip then.
+          'Accept-Encoding': 'gzip, deflate, br',
+        },
         ...opts,
       }).then((r) => {
         const errors = r.errors + r.timeouts + r.non2xx;
+        // CPU per request is steadier than latency when other work shares the machine.
+        const cpuPerRequest = (cpuMs(server.pid!) - cpuBefore) / Math.max(1, r.requests.total);
         console.log(
-          `${title}: ${r.requests.average.toFixed(0)} req/s, p50 ${r.latency.p50} ms, p99 ${r.latency.p99} ms, errors ${errors} (non-2xx ${r.non2xx}), server RSS ${rssMb(server.pid!).toFixed(0)} MB`,
+          `${title}: ${r.requests.average.toFixed(0)} req/s, p50 ${r.latency.p50} ms, p99 ${r.latency.p99} ms, errors ${errors} (non-2xx ${r.non2xx}), server CPU ${cpuPerRequest.toFixed(2)} ms/request, server RSS ${rssMb(server.pid!).toFixed(0)} MB`,
         );
         return { rps: r.requests.average, p99: r.latency.p99, errors };
       });
-    console.log(`GET /api/projects/:id/model answers ${(size / 1024).toFixed(0)} kB`);
+    };
+    console.log(
+      `GET /api/projects/:id/model answers ${(size / 1024).toFixed(0)} kB of JSON, ${(wireSize / 1024).toFixed(0)} kB gzipped`,
+    );
     const probe = await fetch(`${base}/api/solve`, {
       method: 'POST',
       headers: { 'Content-Type': 'application/json', Cookie: cookie, 'X-CSRF-Token': csrfToken },

@@ -14,17 +14,41 @@ declare module 'express-session' {
 
 export const sessionCookieName = 'fairsheet.sid';
 
-/** Sessions in PostgreSQL (the `session` table of the Drizzle schema), so they survive restarts. */
+const sessionMaxAgeMs = 30 * 24 * 3600 * 1000;
+/** How often an unchanged session's expiry is pushed forward in the database. */
+const touchEveryMs = 3600 * 1000;
+
+/**
+ * Sessions in PostgreSQL (the `session` table of the Drizzle schema), so they survive restarts
+ * and are shared by every instance. The expiry slides with use, but an unchanged session is
+ * written at most once an hour per instance instead of on every request (express-session holds
+ * the answer until the store's touch commits). The memory of recent touches is a cache: another
+ * instance, or this one after a restart, simply touches again.
+ */
 export function sessionMiddleware(options: {
   pool: pg.Pool;
   secret: string;
   secure: boolean;
 }): RequestHandler {
   const PgStore = connectPgSimple(session);
+  const store = new PgStore({
+    pool: options.pool,
+    tableName: 'session',
+    createTableIfMissing: false,
+  });
+  const touchedAt = new Map<string, number>();
+  const touch = store.touch.bind(store);
+  store.touch = (sid, sess, callback) => {
+    const now = Date.now();
+    if (now - (touchedAt.get(sid) ?? 0) < touchEveryMs) return callback?.();
+    if (touchedAt.size >= 100_000) touchedAt.clear();
+    touchedAt.set(sid, now);
+    touch(sid, sess, callback);
+  };
   return session({
     name: sessionCookieName,
     secret: options.secret,
-    store: new PgStore({ pool: options.pool, tableName: 'session', createTableIfMissing: false }),
+    store,
     resave: false,
     saveUninitialized: false,
     rolling: true,
@@ -32,7 +56,7 @@ export function sessionMiddleware(options: {
       httpOnly: true,
       sameSite: 'lax',
       secure: options.secure,
-      maxAge: 30 * 24 * 3600 * 1000,
+      maxAge: sessionMaxAgeMs,
     },
   });
 }

@@ -15,14 +15,19 @@ export function modelRoutes(db: Db, models: ModelService): Router {
   const writers = requireProjectRole(db, editors);
 
   router.get('/:projectId/model', params, readers, async (req, res) => {
-    const { etag, body } = await models.currentJson(access(res.locals).project.id);
+    const { etag, body, gzipped } = await models.currentJson(access(res.locals).project.id);
     // Revalidated on every use (the revision may move), but unchanged models cost one small query.
-    res.set({ ETag: etag, 'Cache-Control': 'private, no-cache' });
+    res.set({ ETag: etag, 'Cache-Control': 'private, no-cache', Vary: 'Accept-Encoding' });
     if (req.get('if-none-match') === etag) {
       res.status(304).end();
       return;
     }
-    res.type('application/json').send(body);
+    res.type('application/json');
+    if (req.acceptsEncodings('gzip', 'identity') === 'gzip') {
+      res.set('Content-Encoding', 'gzip').send(gzipped);
+    } else {
+      res.send(body);
+    }
   });
 
   router.put(

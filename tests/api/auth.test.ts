@@ -138,6 +138,27 @@ describe('register and sign in', () => {
     expect(res.status).toBe(401);
     expect(res.body.error.code).toBe('unauthenticated');
   });
+
+  it('an unchanged session slides its expiry once, not on every request', async () => {
+    const c = new TestClient(t.app);
+    await c.register('steady@example.com');
+    const expiry = async () =>
+      (
+        await t.database.pool.query<{ expire: Date }>(
+          `select expire from session where sess->>'userId' is not null
+             and sess->>'csrfToken' = $1`,
+          [c.csrf],
+        )
+      ).rows[0].expire.getTime();
+    const atSignIn = await expiry();
+    await new Promise((r) => setTimeout(r, 1100)); // the column keeps whole seconds
+    await c.get('/api/projects').expect(200);
+    const touched = await expiry();
+    expect(touched).toBeGreaterThan(atSignIn);
+    await new Promise((r) => setTimeout(r, 1100));
+    for (let i = 0; i < 5; i++) await c.get('/api/projects').expect(200);
+    expect(await expiry()).toBe(touched);
+  });
 });
 
 describe('rate limiting of failed sign-ins', () => {

@@ -120,6 +120,22 @@ describe('the model and its revisions', () => {
     expect(after.body.revision).toBe(first.body.revision + 1);
   });
 
+  it('GET /model answers gzip to a client that accepts it and plain JSON to one that does not, with the same content', async () => {
+    const plain = await viewer.get(url('/model')).set('Accept-Encoding', 'identity').expect(200);
+    expect(plain.headers['content-encoding']).toBeUndefined();
+    expect(plain.headers.vary).toMatch(/Accept-Encoding/);
+    const packed = await viewer
+      .get(url('/model'))
+      .set('Accept-Encoding', 'gzip, deflate, br')
+      .expect(200);
+    expect(packed.headers['content-encoding']).toBe('gzip');
+    // supertest opens the gzip itself; the bytes on the wire are the Content-Length.
+    expect(packed.body).toEqual(plain.body);
+    expect(Number(packed.headers['content-length'])).toBeLessThan(
+      Number(plain.headers['content-length']),
+    );
+  });
+
   it('viewers cannot save (403) and strangers see nothing (404)', async () => {
     const current = (await owner.get(url('/model'))).body;
     expect(
