@@ -1,5 +1,6 @@
 // What an uploaded file really is, read from its bytes (never its name), and whether it is
 // whole: the sniffed type, the pixel size of each page, and nothing decoded beyond headers.
+import { Worker } from 'node:worker_threads';
 import { fileTypeFromBuffer } from 'file-type';
 import { pdfFrameDpi } from '@shared/api';
 
@@ -249,37 +250,73 @@ async function pdfPages(buf: Buffer, maxPages: number): Promise<PageSize[]> {
   if (!buf.subarray(Math.max(0, buf.length - 1024)).includes('%%EOF')) {
     throw unreadable('The PDF file is cut short (its end marker is missing).');
   }
-  const { getDocument } = await import('pdfjs-dist/legacy/build/pdf.mjs');
-  const task = getDocument({
-    data: new Uint8Array(buf),
-    stopAtErrors: true,
-    isEvalSupported: false,
-    enableXfa: false,
-    disableFontFace: true,
-    useSystemFonts: false,
-    verbosity: 0,
-  });
-  try {
-    const doc = await task.promise;
-    if (doc.numPages > maxPages) {
-      throw new InspectionError(
-        'too-many-pages',
-        `The PDF has ${doc.numPages} pages; at most ${maxPages} are accepted in one file.`,
-        { pageCount: doc.numPages, maxPages },
-      );
-    }
-    const pages: PageSize[] = [];
-    for (let n = 1; n <= doc.numPages; n++) {
-      const viewport = (await doc.getPage(n)).getViewport({ scale: pdfFrameDpi / 72 });
-      if (!(viewport.width > 0 && viewport.height > 0)) throw unreadable(`Page ${n} has no size.`);
-      pages.push({ widthPx: viewport.width, heightPx: viewport.height });
-    }
-    if (!pages.length) throw unreadable('The PDF has no pages.');
-    return pages;
-  } catch (err) {
-    if (err instanceof InspectionError) throw err;
-    throw unreadable(`The PDF cannot be opened: ${(err as Error).message}`);
-  } finally {
-    await task.destroy();
-  }
+  const answer = await pdfReader.read(new Uint8Array(buf), pdfFrameDpi / 72, maxPages);
+  if ('pages' in answer) return answer.pages;
+  throw new InspectionError(answer.problem, answer.message, answer.details);
 }
+
+type PdfAnswer =
+  | { pages: PageSize[] }
+  | { problem: InspectionProblem; message: string; details?: Record<string, unknown> };
+
+/** A PDF that pdf.js has not opened in this long is refused (and its thread ended). */
+const pdfTimeoutMs = 60_000;
+
+/**
+ * pdf.js on one worker thread (pdf-worker.mjs), started on first use and kept for the next.
+ * Requests are answered in turn; a thread that dies or hangs fails its requests and is
+ * replaced on the next one.
+ */
+const pdfReader = (() => {
+  let worker: Worker | undefined;
+  let nextId = 0;
+  const pending = new Map<
+    number,
+    { resolve: (a: PdfAnswer) => void; reject: (e: Error) => void }
+  >();
+
+  function failAll(err: Error) {
+    for (const p of pending.values()) p.reject(err);
+    pending.clear();
+    worker = undefined;
+  }
+
+  function start(): Worker {
+    const w = new Worker(new URL('./pdf-worker.mjs', import.meta.url));
+    w.on('message', (answer: PdfAnswer & { id: number }) => {
+      const { id, ...rest } = answer;
+      pending.get(id)?.resolve(rest);
+      pending.delete(id);
+      // An idle thread does not keep the process alive.
+      if (!pending.size) w.unref();
+    });
+    w.on('error', (err) => failAll(unreadable(`The PDF cannot be opened: ${err.message}`)));
+    w.on('exit', () => {
+      if (worker === w) failAll(unreadable('The PDF reader stopped before it answered.'));
+    });
+    return w;
+  }
+
+  function read(data: Uint8Array, scale: number, maxPages: number): Promise<PdfAnswer> {
+    worker ??= start();
+    const w = worker;
+    const id = nextId++;
+    w.ref();
+    return new Promise<PdfAnswer>((resolve, reject) => {
+      const timer = setTimeout(() => {
+        failAll(unreadable(`The PDF could not be opened within ${pdfTimeoutMs / 1000} s.`));
+        void w.terminate();
+      }, pdfTimeoutMs);
+      const settle =
+        <T>(f: (v: T) => void) =>
+        (v: T) => {
+          clearTimeout(timer);
+          f(v);
+        };
+      pending.set(id, { resolve: settle(resolve), reject: settle(reject) });
+      w.postMessage({ id, data, scale, maxPages }, [data.buffer as ArrayBuffer]);
+    });
+  }
+
+  return { read };
+})();
