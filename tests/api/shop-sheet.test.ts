@@ -1,11 +1,11 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { parse } from 'csv-parse/sync';
-import { getDocument } from 'pdfjs-dist/legacy/build/pdf.mjs';
 import { SHOP_SHEET_CSV_COLUMNS, type ShopSheet } from '@shared/api';
 import { upsertMembership } from '../../server/db/projects';
 import { findUserByEmail } from '../../server/db/users';
 import { demoProjectName, demoPassword, seedDemo } from '../../server/demo/seed';
 import { createTestApp, TestClient, testHasher, type TestApp } from '../helpers/app';
+import { readPdf } from '../helpers/pdf-text';
 
 let t: TestApp;
 let builder: TestClient;
@@ -14,21 +14,6 @@ let projectId = '';
 /** RFC 4180 records as objects keyed by the header (csv-parse, the reader of csv-stringify's family). */
 const parseCsv = (text: string): Record<string, string>[] =>
   parse(text, { columns: true, bom: true });
-
-/** Every page's text, joined, and the page sizes in points. */
-async function readPdf(bytes: Buffer) {
-  const doc = await getDocument({ data: new Uint8Array(bytes), useSystemFonts: false }).promise;
-  const pages: string[] = [];
-  const sizes: number[][] = [];
-  for (let i = 1; i <= doc.numPages; i++) {
-    const page = await doc.getPage(i);
-    sizes.push(page.view);
-    const content = await page.getTextContent();
-    pages.push(content.items.map((it) => ('str' in it ? it.str : '')).join(' '));
-  }
-  await doc.destroy();
-  return { text: pages.join('\n'), pages, sizes };
-}
 
 const binary = (res: { body: unknown }) => res.body as Buffer;
 

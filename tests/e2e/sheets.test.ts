@@ -1,7 +1,8 @@
-import type { Locator, Page } from 'playwright-core';
+import type { Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { demoBuilder, demoChecker, demoPassword, demoProjectName } from '../../server/demo/seed';
 import { screenshot, startBrowserRig, type BrowserRig } from '../helpers/browser';
+import { clickSheet } from '../helpers/sheet-canvas';
 
 let rig: BrowserRig;
 beforeAll(async () => {
@@ -59,21 +60,6 @@ async function drawingPng(page: Page, noise: boolean): Promise<Buffer> {
     return c.toDataURL('image/png');
   }, noise);
   return Buffer.from(dataUrl.split(',')[1], 'base64');
-}
-
-/** Clicks a point of the sheet, through the canvas's view (read from its data-view). */
-async function clickSheet(page: Page, canvas: Locator, p: { x: number; y: number }) {
-  const view = JSON.parse((await canvas.getAttribute('data-view'))!) as {
-    x: number;
-    y: number;
-    zoom: number;
-    turn: number;
-  };
-  const box = (await canvas.boundingBox())!;
-  const t = (view.turn * Math.PI) / 180;
-  const x = box.x + view.x + view.zoom * (Math.cos(t) * p.x - Math.sin(t) * p.y);
-  const y = box.y + view.y + view.zoom * (Math.sin(t) * p.x + Math.cos(t) * p.y);
-  await page.mouse.click(x, y);
 }
 
 describe('sheets on the canvas, in a real browser', () => {

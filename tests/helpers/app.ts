@@ -167,3 +167,12 @@ export async function waitForMail(t: TestApp, to: string, timeoutMs = 5000) {
   }
   throw new Error(`no mail to ${to} within ${timeoutMs} ms`);
 }
+
+/** The first link under `prefix` (e.g. `${baseUrl}/invitations/`) in the mail sent to `to`. */
+export async function mailedLink(t: TestApp, to: string, prefix: string): Promise<string> {
+  const mail = await waitForMail(t, to);
+  const escaped = prefix.replace(/[.*+?^${}()|[\]\\]/g, '\\$&');
+  const link = mail.body.match(new RegExp(`${escaped}[A-Za-z0-9_-]+`))?.[0];
+  if (!link) throw new Error(`no link under ${prefix} in the mail to ${to}:\n${mail.body}`);
+  return link;
+}

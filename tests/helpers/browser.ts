@@ -56,9 +56,10 @@ export async function startBrowserRig(): Promise<BrowserRig> {
   };
 }
 
+/** A full-page screenshot at test-results/<name>.png; `name` may hold a folder (`journey/01-…`). */
 export async function screenshot(page: Page, name: string) {
-  mkdirSync(resultsDir, { recursive: true });
   const file = path.join(resultsDir, `${name}.png`);
+  mkdirSync(path.dirname(file), { recursive: true });
   await page.screenshot({ path: file, fullPage: true });
   return file;
 }

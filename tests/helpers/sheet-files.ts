@@ -3,10 +3,17 @@ import jpeg from 'jpeg-js';
 import PDFDocument from 'pdfkit';
 import { PNG } from 'pngjs';
 
-/** A PDF of `pages` pages (A4 portrait unless told), each with a line of text. */
+/**
+ * A PDF of `pages` pages (A4 portrait unless told), each with a line of text, or with what
+ * `draw` puts on it (in PDF points from the top left, 72 to the inch).
+ */
 export async function makePdf(
   pages = 1,
-  options: { size?: [number, number]; javascript?: string } = {},
+  options: {
+    size?: [number, number];
+    javascript?: string;
+    draw?: (doc: PDFKit.PDFDocument, page: number) => void;
+  } = {},
 ): Promise<Buffer> {
   const doc = new PDFDocument({ size: options.size ?? 'A4', margin: 36, autoFirstPage: false });
   const chunks: Buffer[] = [];
@@ -14,6 +21,10 @@ export async function makePdf(
   const done = new Promise<void>((resolve) => doc.on('end', () => resolve()));
   for (let n = 1; n <= pages; n++) {
     doc.addPage();
+    if (options.draw) {
+      options.draw(doc, n);
+      continue;
+    }
     doc.fontSize(14).text(`Test sheet, page ${n}`);
     doc.rect(72, 120, 200, 100).stroke();
   }
