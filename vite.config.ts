@@ -15,7 +15,8 @@ export default defineConfig({
   test: {
     // API and browser suites share one throwaway database each run; files run one at a time.
     fileParallelism: false,
-    testTimeout: 30_000,
+    // Browser tests drive Chromium, the app and PostgreSQL on two cores: room for a busy machine.
+    testTimeout: 120_000,
     hookTimeout: 120_000,
     include: ['tests/**/*.test.ts'],
     globalSetup: ['tests/global-setup.ts'],
