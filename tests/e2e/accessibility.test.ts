@@ -285,3 +285,46 @@ describe('the sheet canvas from the keyboard', () => {
     },
   );
 });
+
+describe('controls the library draws for the mouse, from the keyboard', () => {
+  it(
+    'the password eye shows the password; a sortable heading sorts; the sheet side tabs follow the arrow keys',
+    { timeout: 90_000 },
+    async () => {
+      const signIn = await open(pages.find((p) => p.name === 'sign-in')!);
+      await signIn.locator('#sign-in-password').fill('hunter2 is no password');
+      await signIn.locator('#sign-in-password').press('Tab');
+      const eye = signIn.getByRole('button', { name: 'Show password' });
+      expect(await eye.evaluate((el) => el === document.activeElement)).toBe(true);
+      expect(await eye.getAttribute('aria-pressed')).toBe('false');
+      await signIn.keyboard.press('Enter');
+      expect(await signIn.locator('#sign-in-password').getAttribute('type')).toBe('text');
+      await expect.poll(() => eye.getAttribute('aria-pressed')).toBe('true');
+      await signIn.close();
+
+      const model = await open(pages.find((p) => p.name === 'dimensions & relations')!);
+      const heading = model.getByRole('columnheader', { name: /^Name/ });
+      expect(await heading.getAttribute('aria-sort')).toBe('none');
+      await heading.focus();
+      await model.keyboard.press('Enter');
+      await expect.poll(() => heading.getAttribute('aria-sort')).not.toBe('none');
+      await model.close();
+
+      const sheet = await open(pages.find((p) => p.name === 'a sheet')!);
+      const tabs = sheet.getByRole('tab');
+      const names = await tabs.allInnerTexts();
+      const selected = sheet.getByRole('tab', { selected: true });
+      const before = names.indexOf(await selected.innerText());
+      await selected.focus();
+      await sheet.keyboard.press('ArrowRight');
+      const after = (before + 1) % names.length;
+      await expect.poll(() => selected.innerText()).toBe(names[after]);
+      expect(await selected.evaluate((el) => el === document.activeElement)).toBe(true);
+      const panel = sheet.getByRole('tabpanel');
+      expect(await panel.getAttribute('aria-labelledby')).toBe(await selected.getAttribute('id'));
+      await sheet.keyboard.press('Home');
+      await expect.poll(() => selected.innerText()).toBe(names[0]);
+      await sheet.close();
+    },
+  );
+});
