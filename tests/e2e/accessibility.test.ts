@@ -194,6 +194,12 @@ const pages: MainPage[] = [
     dialogs: [{ name: 'correction', open: modal('Record a correction…') }],
   },
   { name: 'team', signedIn: true, path: () => `${project()}/team`, ready: '#invite-email' },
+  {
+    name: 'invitation, signed in as someone else',
+    signedIn: true,
+    path: () => `/invitations/${ids.invitation}`,
+    ready: '[data-testid=accept-invitation]',
+  },
 ];
 
 async function open(p: MainPage): Promise<Page> {
