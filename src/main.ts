@@ -6,6 +6,7 @@ import './styles/base.css';
 import { createPinia } from 'pinia';
 import { createApp } from 'vue';
 import App from './App.vue';
+import { naiveA11y } from './plugins/naive-a11y';
 import { router } from './router';
 
-createApp(App).use(createPinia()).use(router).mount('#app');
+createApp(App).use(createPinia()).use(router).use(naiveA11y).mount('#app');

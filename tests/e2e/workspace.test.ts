@@ -79,7 +79,7 @@ describe('the dimensions workspace, in a real browser', () => {
     await screenshot(page, 'workspace-stackup');
 
     // A question about a relation, beside it.
-    await page.getByRole('button', { name: 'Comments on relation overall' }).click();
+    await page.getByRole('button', { name: 'Discuss relation overall' }).click();
     const thread = page.getByRole('region', { name: 'Comments on overall' });
     await thread.locator('textarea').fill('Is 30 1/4 the plate before or after the buffer beam?');
     await thread.getByRole('button', { name: 'Post comment' }).click();
