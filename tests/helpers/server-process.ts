@@ -1,7 +1,8 @@
 // The app in its own Node process (tests/helpers/serve.ts), for tests that kill it, restart it or
-// stop it with a signal; and a small fetch client that keeps a cookie and the CSRF token.
+// stop it with a signal; and a small HTTP client that keeps a cookie and the CSRF token.
 import { spawn, type ChildProcess } from 'node:child_process';
 import { mkdirSync } from 'node:fs';
+import http from 'node:http';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { freePort } from './net';
@@ -119,15 +120,22 @@ export async function killServerProcesses(): Promise<void> {
 export interface Answer<T = Record<string, unknown>> {
   status: number;
   body: T;
-  headers: Headers;
+  headers: http.IncomingHttpHeaders;
 }
 
-/** A signed-in user of a running server, over fetch: keeps the session cookie and CSRF token. */
+/**
+ * A signed-in user of a running server: keeps the session cookie and the CSRF token. Requests go
+ * through `agent` (by default its own keep-alive agent, so several clients really open several
+ * connections).
+ */
 export class HttpClient {
   cookie = '';
   csrf = '';
 
-  constructor(public baseUrl: string) {}
+  constructor(
+    public baseUrl: string,
+    private readonly agent: http.Agent = new http.Agent({ keepAlive: true }),
+  ) {}
 
   async request<T = Record<string, unknown>>(
     method: string,
@@ -136,19 +144,30 @@ export class HttpClient {
   ): Promise<Answer<T>> {
     const headers: Record<string, string> = { 'X-CSRF-Token': this.csrf };
     if (this.cookie) headers.Cookie = this.cookie;
-    let payload: BodyInit | undefined;
-    if (body instanceof FormData) payload = body;
-    else if (body !== undefined) {
+    let payload: Buffer | undefined;
+    if (body instanceof FormData) {
+      // Encoded as a browser would: multipart with a boundary.
+      const encoded = new Request('http://localhost/', { method: 'POST', body });
+      payload = Buffer.from(await encoded.arrayBuffer());
+      headers['Content-Type'] = encoded.headers.get('content-type')!;
+    } else if (body !== undefined) {
       headers['Content-Type'] = 'application/json';
-      payload = JSON.stringify(body);
+      payload = Buffer.from(JSON.stringify(body));
     }
-    const res = await fetch(this.baseUrl + url, { method, headers, body: payload });
-    const set = res.headers.get('set-cookie');
-    if (set) this.cookie = set.split(';')[0];
-    const text = await res.text();
+    if (payload) headers['Content-Length'] = String(payload.length);
+    const res = await new Promise<http.IncomingMessage>((resolve, reject) => {
+      const req = http.request(this.baseUrl + url, { method, headers, agent: this.agent }, resolve);
+      req.once('error', reject);
+      req.end(payload);
+    });
+    const chunks: Buffer[] = [];
+    for await (const chunk of res) chunks.push(chunk as Buffer);
+    const text = Buffer.concat(chunks).toString('utf8');
+    const set = res.headers['set-cookie'];
+    if (set?.length) this.cookie = set[0].split(';')[0];
     let parsed: unknown = text;
-    if ((res.headers.get('content-type') ?? '').includes('json')) parsed = JSON.parse(text);
-    return { status: res.status, body: parsed as T, headers: res.headers };
+    if ((res.headers['content-type'] ?? '').includes('json')) parsed = JSON.parse(text);
+    return { status: res.statusCode!, body: parsed as T, headers: res.headers };
   }
 
   async register(email: string, password = 'correct horse battery') {
