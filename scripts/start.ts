@@ -2,7 +2,7 @@
 // then the app on http://127.0.0.1:3000 with the demo data. Ctrl-C stops it all cleanly.
 import path from 'node:path';
 import { loadEnv } from '../server/env';
-import { startServer } from '../server/index';
+import { startServer, stopOnSignals } from '../server/index';
 import { demoBuilder, demoChecker, demoPassword } from '../server/demo/seed';
 import { buildClientIfStale } from './lib/build';
 import { clusterDir, startCluster, type Cluster } from './lib/system';
@@ -42,20 +42,11 @@ async function main() {
   }
   console.log('  Ctrl-C stops the app and its database.\n');
 
-  let stopping = false;
-  const stop = async (signal: string) => {
-    if (stopping) return;
-    stopping = true;
-    console.log(`\n[fairsheet] ${signal}: stopping …`);
-    await server.close().catch((err: Error) => console.error(err.message));
-    if (cluster) {
-      cluster.stop();
-      console.log('[fairsheet] database stopped');
-    }
-    process.exit(0);
-  };
-  process.on('SIGINT', () => void stop('SIGINT'));
-  process.on('SIGTERM', () => void stop('SIGTERM'));
+  stopOnSignals(server, () => {
+    if (!cluster) return;
+    cluster.stop();
+    console.log('[fairsheet] database stopped');
+  });
 }
 
 main().catch((err: Error) => {

@@ -24,6 +24,8 @@ const schema = z.object({
   TRUST_PROXY: z.string().optional(),
   /** POST /api/solve per signed-in user per minute. */
   SOLVE_RATE_LIMIT: z.coerce.number().int().positive().default(120),
+  /** How long a stop (SIGTERM, Ctrl-C) waits for requests in flight before cutting them off. */
+  SHUTDOWN_GRACE_SECONDS: z.coerce.number().positive().max(600).default(10),
   LOG_LEVEL: z.enum(['silent', 'error', 'warn', 'info', 'debug']).default('info'),
   FAIRSHEET_SEED_DEMO: z
     .enum(['0', '1', 'true', 'false'])
@@ -32,6 +34,8 @@ const schema = z.object({
   /** Where uploaded sheets are kept: `local` (UPLOAD_DIR) or `s3` (an S3-compatible bucket). */
   STORAGE: z.enum(['local', 's3']).default('local'),
   UPLOAD_DIR: z.string().min(1).default('uploads'),
+  /** Where uploads are staged while they are checked; unset: the system temp folder. */
+  UPLOAD_TEMP_DIR: z.string().min(1).optional(),
   /** Largest accepted upload, per file, in MB. */
   UPLOAD_MAX_MB: z.coerce.number().positive().max(4096).default(60),
   /** Unset: AWS itself; set for any S3-compatible service. */

@@ -1,6 +1,5 @@
 import { randomBytes } from 'node:crypto';
 import { existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
-import type { Server } from 'node:http';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { createApp } from './app';
@@ -8,6 +7,7 @@ import { createPasswordHasher } from './auth/passwords';
 import { applyMigrations, connect } from './db/client';
 import { seedDemo } from './demo/seed';
 import type { Env } from './env';
+import { createGracefulServer } from './http/graceful';
 import { createMailer } from './mail/mailer';
 import { startMailSink, type MailSink } from './mail/sink';
 import { createSheetService } from './services/sheets';
@@ -15,6 +15,11 @@ import { storageFromEnv } from './storage';
 
 export interface RunningServer {
   url: string;
+  /**
+   * Stops taking connections, lets the requests in flight finish (at most
+   * SHUTDOWN_GRACE_SECONDS), then closes the mail sink and the database pool: no request
+   * ever finds the pool closed.
+   */
   close(): Promise<void>;
 }
 
@@ -58,6 +63,7 @@ export async function startServer(env: Env, databaseUrl: string): Promise<Runnin
     mailer: createMailer({ smtpUrl: env.SMTP_URL, sinkPort: sink?.port ?? 0, from: env.MAIL_FROM }),
     storage,
     uploadMaxBytes: Math.round(env.UPLOAD_MAX_MB * 1024 * 1024),
+    uploadTempDir: env.UPLOAD_TEMP_DIR,
     hasher,
     sessionSecret: sessionSecret(env),
     appUrl,
@@ -69,17 +75,47 @@ export async function startServer(env: Env, databaseUrl: string): Promise<Runnin
     solvesPerMinute: env.SOLVE_RATE_LIMIT,
   });
 
-  const server: Server = await new Promise((resolve, reject) => {
-    const s = app.listen(env.PORT, env.HOST, () => resolve(s));
-    s.once('error', reject);
-  });
+  const server = createGracefulServer(app);
+  await server.listen(env.PORT, env.HOST);
 
   return {
     url: appUrl,
     async close() {
-      await new Promise<void>((resolve) => server.close(() => resolve()));
+      const { cut } = await server.shutdown(env.SHUTDOWN_GRACE_SECONDS * 1000);
+      if (cut) {
+        console.warn(
+          `[fairsheet] ${cut} requests still running after ${env.SHUTDOWN_GRACE_SECONDS} s were cut off`,
+        );
+      }
       await sink?.close();
       await database.pool.end();
     },
   };
+}
+
+/**
+ * SIGTERM and SIGINT (Ctrl-C) stop the server gracefully, then run `after` (stopping the private
+ * cluster), then end the process: 0 when everything closed cleanly.
+ */
+export function stopOnSignals(server: RunningServer, after?: () => void) {
+  let stopping = false;
+  const stop = async (signal: string) => {
+    if (stopping) return;
+    stopping = true;
+    console.log(`\n[fairsheet] ${signal}: stopping …`);
+    let code = 0;
+    const failed = (err: unknown) => {
+      console.error(`[fairsheet] while stopping: ${(err as Error).message}`);
+      code = 1;
+    };
+    await server.close().catch(failed);
+    try {
+      after?.();
+    } catch (err) {
+      failed(err);
+    }
+    process.exit(code);
+  };
+  process.on('SIGINT', () => void stop('SIGINT'));
+  process.on('SIGTERM', () => void stop('SIGTERM'));
 }

@@ -95,6 +95,16 @@ export function regenerateSession(req: Express.Request): Promise<void> {
   });
 }
 
+/**
+ * Writes the session now rather than as the answer ends (express-session's default), so a
+ * database that fails the write fails the request (503) instead of a sign-in that looked fine.
+ */
+export function saveSession(req: Express.Request): Promise<void> {
+  return new Promise((resolve, reject) => {
+    req.session.save((err) => (err ? reject(err) : resolve()));
+  });
+}
+
 export function destroySession(req: Express.Request): Promise<void> {
   return new Promise((resolve, reject) => {
     req.session.destroy((err) => (err ? reject(err) : resolve()));

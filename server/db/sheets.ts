@@ -7,6 +7,7 @@ type Tx = Parameters<Parameters<Db['transaction']>[0]>[0];
 
 export type NewSheet = typeof sheets.$inferInsert;
 export type SheetWithFile = SheetRow & { file: FileRow };
+export type FileValues = Pick<FileRow, 'sha256' | 'mimeType' | 'sizeBytes'>;
 
 const withFile = { sheet: sheets, file: files };
 const flatten = (r: { sheet: SheetRow; file: FileRow }): SheetWithFile => ({
@@ -18,10 +19,7 @@ const flatten = (r: { sheet: SheetRow; file: FileRow }): SheetWithFile => ({
  * Adds the file's row, or locks the one already there, until the transaction ends: a sheet
  * being deleted elsewhere cannot drop the file while this upload comes to use it.
  */
-export async function lockOrInsertFile(
-  tx: Tx,
-  values: Pick<FileRow, 'sha256' | 'mimeType' | 'sizeBytes'>,
-) {
+export async function lockOrInsertFile(tx: Tx, values: FileValues) {
   await tx
     .insert(files)
     .values(values)
@@ -32,14 +30,6 @@ export async function lockOrInsertFile(
 export async function lockFile(tx: Tx, sha256: string) {
   const [row] = await tx.select().from(files).where(eq(files.sha256, sha256)).for('update');
   return row;
-}
-
-export async function fileExists(db: DbOrTx, sha256: string): Promise<boolean> {
-  const [row] = await db
-    .select({ sha256: files.sha256 })
-    .from(files)
-    .where(eq(files.sha256, sha256));
-  return Boolean(row);
 }
 
 export async function countSheetsUsing(tx: Tx, sha256: string): Promise<number> {

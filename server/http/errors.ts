@@ -26,16 +26,69 @@ export const conflict = (message: string, details?: unknown) =>
 export const unprocessable = (message: string, details?: unknown) =>
   new AppError('unprocessable', message, 422, details);
 
-function isDatabaseDown(err: unknown): boolean {
-  const code =
-    (err as { code?: string; cause?: { code?: string } })?.cause?.code ??
-    (err as { code?: string })?.code;
-  return ['ECONNREFUSED', 'ECONNRESET', '57P01', '57P03', 'ETIMEDOUT'].includes(code ?? '');
+// How node-postgres (pg 8.23, pg-pool 3) reports a database it cannot reach or that went away:
+// socket errors, SQLSTATEs of the server stopping or refusing connections, and plain Errors
+// whose message is all there is.
+const unavailableCodes = new Set([
+  'ECONNREFUSED', // nothing listens: the server is down
+  'ECONNRESET',
+  'EPIPE',
+  'ETIMEDOUT',
+  'EHOSTUNREACH',
+  'ENETUNREACH',
+  'EAI_AGAIN',
+  '57P01', // admin_shutdown: the server is stopping (pg_ctl stop -m fast) or ended our backend
+  '57P02', // crash_shutdown
+  '57P03', // cannot_connect_now: the server is starting up or shutting down
+  '53300', // too_many_connections
+]);
+const unavailableMessages = [
+  'Connection terminated', // the socket closed under a query ("… unexpectedly" included)
+  'Client has encountered a connection error and is not queryable',
+  'timeout exceeded when trying to connect',
+  'Cannot use a pool after calling end on the pool', // a request outliving a shutdown's grace
+];
+
+/**
+ * True when an error (or its cause: Drizzle wraps driver errors; or one of an AggregateError's
+ * errors: a host name resolving to several addresses) means the database cannot be reached.
+ */
+export function isDatabaseUnavailable(err: unknown, depth = 0): boolean {
+  if (!err || typeof err !== 'object' || depth > 4) return false;
+  const { code, message, cause, errors } = err as {
+    code?: unknown;
+    message?: unknown;
+    cause?: unknown;
+    errors?: unknown;
+  };
+  if (typeof code === 'string' && (unavailableCodes.has(code) || code.startsWith('08')))
+    return true; // SQLSTATE class 08: connection exception
+  if (typeof message === 'string' && unavailableMessages.some((m) => message.startsWith(m)))
+    return true;
+  if (Array.isArray(errors) && errors.some((e) => isDatabaseUnavailable(e, depth + 1))) return true;
+  return isDatabaseUnavailable(cause, depth + 1);
 }
 
-/** After the routes: answers `{ error: { code, message, details } }`; unknown errors log and 500. */
+const requestErrorCodes: Partial<Record<number, ErrorCode>> = {
+  404: 'not_found',
+  415: 'unsupported_media_type',
+};
+
+/**
+ * After the routes: answers `{ error: { code, message, details } }`. A database that cannot be
+ * reached answers 503; unknown errors are logged and answer a plain 500 (never a stack trace).
+ */
 export function errorHandler(options: { production: boolean }): ErrorRequestHandler {
   return (err, _req, res, _next) => {
+    if (res.headersSent) {
+      // Too late to answer: a session store write after the answer (express-session saves and
+      // touches the session as the response ends), or a stream that failed half way. A finished
+      // answer stands; an unfinished one is cut so the client cannot take it for whole.
+      if (!isDatabaseUnavailable(err))
+        console.error('[server] error after the answer:', options.production ? err?.message : err);
+      if (!res.writableEnded) res.destroy();
+      return;
+    }
     if (err instanceof AppError) {
       res
         .set(err.headers)
@@ -59,13 +112,31 @@ export function errorHandler(options: { production: boolean }): ErrorRequestHand
         .json({ error: { code: 'bad_request', message: 'The request body is not valid JSON.' } });
       return;
     }
-    if (isDatabaseDown(err)) {
-      res.status(503).json({
+    // Other refusals of the request itself, by the middleware that read it: a body cut short
+    // ("request aborted"), a charset it cannot read, a bad %-escape in the path. Their message
+    // is shown only when marked as meant for the client (http-errors' `expose`).
+    if (status >= 400 && status < 500) {
+      res.status(status).json({
         error: {
-          code: 'unavailable',
-          message: 'The database is not answering. Try again in a moment.',
+          code: requestErrorCodes[status] ?? 'bad_request',
+          message:
+            err?.expose === true
+              ? `The request was not understood: ${String(err.message)}.`
+              : 'The request was not understood.',
         },
       });
+      return;
+    }
+    if (isDatabaseUnavailable(err)) {
+      res
+        .status(503)
+        .set('Retry-After', '5')
+        .json({
+          error: {
+            code: 'unavailable',
+            message: 'The database is not answering. Try again in a moment.',
+          },
+        });
       return;
     }
     console.error('[server] unexpected error:', options.production ? err?.message : err);

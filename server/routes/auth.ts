@@ -11,6 +11,7 @@ import {
   destroySession,
   newCsrfToken,
   regenerateSession,
+  saveSession,
   sessionCookieName,
 } from '../auth/session';
 import type { Db } from '../db/client';
@@ -59,9 +60,17 @@ export function authRoutes(db: Db, auth: AuthService): Router {
   const router = Router();
 
   router.get('/session', async (req, res) => {
-    req.session.csrfToken ??= newCsrfToken();
+    let changed = false;
+    if (!req.session.csrfToken) {
+      req.session.csrfToken = newCsrfToken();
+      changed = true;
+    }
     const user = await auth.currentUser(req.session.userId);
-    if (!user && req.session.userId) delete req.session.userId;
+    if (!user && req.session.userId) {
+      delete req.session.userId;
+      changed = true;
+    }
+    if (changed) await saveSession(req);
     res.json({ user, csrfToken: req.session.csrfToken });
   });
 
@@ -70,6 +79,7 @@ export function authRoutes(db: Db, auth: AuthService): Router {
     await regenerateSession(req);
     req.session.userId = user.id;
     req.session.csrfToken = newCsrfToken();
+    await saveSession(req);
     res.status(201).json({ user, csrfToken: req.session.csrfToken });
   });
 
@@ -82,6 +92,7 @@ export function authRoutes(db: Db, auth: AuthService): Router {
       await regenerateSession(req);
       req.session.userId = user.id;
       req.session.csrfToken = newCsrfToken();
+      await saveSession(req);
       res.json({ user, csrfToken: req.session.csrfToken });
     },
   );

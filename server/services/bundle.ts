@@ -191,7 +191,7 @@ export function createBundleService(deps: {
 
   /**
    * Reads and checks the whole bundle first (format, every file's checksum, every reference),
-   * stores the files, then creates the project and everything in it in one transaction.
+   * then creates the project and everything in it, storing its files, in one transaction.
    */
   async function importProject(zipPath: string, user: { id: string; name: string }) {
     const entries = await openZip(zipPath);
@@ -206,6 +206,7 @@ export function createBundleService(deps: {
         throw damaged(`sheet “${s.title}” names a file the bundle does not list`);
 
     const work = await mkdtemp(path.join(tmpdir(), 'fairsheet-import-'));
+    const removeWork = () => rm(work, { recursive: true, force: true });
     try {
       for (const f of manifest.files) {
         const entry = entries.get(fileKey(f.sha256));
@@ -220,22 +221,27 @@ export function createBundleService(deps: {
         if (hash.digest('hex') !== f.sha256)
           throw damaged(`the file ${f.sha256.slice(0, 12)}… does not match its checksum`);
       }
-      for (const f of manifest.files) {
-        const put = await storage.put({ path: path.join(work, f.sha256) }, f.mimeType);
-        if (put.sha256 !== f.sha256) throw damaged('a file changed while it was stored');
-      }
-    } finally {
-      await rm(work, { recursive: true, force: true });
+    } catch (err) {
+      await removeWork();
+      throw err;
     }
 
-    const result = await db.transaction(async (tx) => {
+    const imported = db.transaction(async (tx) => {
       const project = await insertProject(tx, user.id, manifest.project);
-      for (const f of manifest.files)
+      // As an upload does: the rows locked in sha256 order (imports and uploads sharing files
+      // never wait on each other in a cycle), then the blobs written under those locks, so a
+      // sheet deleted elsewhere cannot take a file away between its blob and its row.
+      const files = [...manifest.files].sort((a, b) => (a.sha256 < b.sha256 ? -1 : 1));
+      for (const f of files)
         await sheetRepo.lockOrInsertFile(tx, {
           sha256: f.sha256,
           mimeType: f.mimeType,
           sizeBytes: f.sizeBytes,
         });
+      for (const f of files) {
+        const put = await storage.put({ path: path.join(work, f.sha256) }, f.mimeType);
+        if (put.sha256 !== f.sha256) throw damaged('a file changed while it was stored');
+      }
       const rows = sheetList.length
         ? await sheetRepo.insertSheets(
             tx,
@@ -329,6 +335,7 @@ export function createBundleService(deps: {
       );
       return project;
     });
+    const result = await imported.finally(removeWork);
     return toProject(result, 'owner');
   }
 

@@ -221,9 +221,14 @@ export function createSheetService({ db, storage, limits }: SheetServiceOptions)
         });
       });
     } catch (err) {
-      // A blob this upload wrote, whose row did not survive the rollback, is removed again.
-      for (const sha256 of created) {
-        if (!(await repo.fileExists(db, sha256))) await storage.delete(sha256).catch(() => {});
+      // A blob this upload wrote is removed again unless a sheet came to use it meanwhile (an
+      // upload of the same content); failing that, it stays as an unused file, never a loss.
+      for (const f of distinct.filter((d) => created.includes(d.sha256))) {
+        await releaseFile(f.sha256, {
+          sha256: f.sha256,
+          mimeType: f.inspection.mimeType,
+          sizeBytes: f.sizeBytes,
+        }).catch((cleanup: Error) => console.error(`[sheets] ${f.sha256}: ${cleanup.message}`));
       }
       throw err;
     }
@@ -264,21 +269,35 @@ export function createSheetService({ db, storage, limits }: SheetServiceOptions)
     });
   }
 
-  /** Deletes a sheet, and its stored file when no other sheet (in any project) uses it. */
+  /**
+   * Deletes a sheet, then its stored file when no other sheet (in any project) uses it. The
+   * sheet's row goes first, in its own transaction: dying in between leaves an unused file
+   * (swept at the next start), never a sheet whose file is gone.
+   */
   async function remove(projectId: string, sheetId: string) {
-    await db.transaction(async (tx) => {
-      const sha256 = await repo.deleteSheet(tx, projectId, sheetId);
-      if (!sha256) throw notFound('The sheet');
-      await releaseFile(tx, sha256);
-    });
+    const sha256 = await db.transaction((tx) => repo.deleteSheet(tx, projectId, sheetId));
+    if (!sha256) throw notFound('The sheet');
+    await releaseFile(sha256).catch((err: Error) =>
+      console.error(`[sheets] unused file ${sha256} kept until the next start: ${err.message}`),
+    );
   }
 
-  async function releaseFile(tx: Parameters<Parameters<Db['transaction']>[0]>[0], sha256: string) {
-    if (!(await repo.lockFile(tx, sha256))) return;
-    if ((await repo.countSheetsUsing(tx, sha256)) > 0) return;
-    await repo.deleteFile(tx, sha256);
-    // Under the row lock: an upload of the same content waits, then writes the blob anew.
-    await storage.delete(sha256);
+  /**
+   * Removes a file that no sheet uses: its row and, under the row's lock, its blob (an upload
+   * of the same content waits, then writes the blob anew). The blob goes before the commit,
+   * so dying in between leaves a row without blob and without sheets: the next upload of that
+   * content writes the blob again (storage.put checks the blob, not the row), the start-up
+   * sweep removes the row. `values` locks a row that may not be there yet (an upload's
+   * rollback), waiting for another upload of the same content to finish first.
+   */
+  async function releaseFile(sha256: string, values?: repo.FileValues) {
+    await db.transaction(async (tx) => {
+      if (values) await repo.lockOrInsertFile(tx, values);
+      else if (!(await repo.lockFile(tx, sha256))) return;
+      if ((await repo.countSheetsUsing(tx, sha256)) > 0) return;
+      await repo.deleteFile(tx, sha256);
+      await storage.delete(sha256);
+    });
   }
 
   /** Removes stored files that no sheet uses any more (a deleted project's); answers how many. */

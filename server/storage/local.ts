@@ -12,6 +12,15 @@ import {
   type PutResult,
 } from './storage';
 
+async function syncFolder(dir: string) {
+  const handle = await open(dir, 'r');
+  try {
+    await handle.sync();
+  } finally {
+    await handle.close();
+  }
+}
+
 /**
  * Blobs on local disk under `root`, at `root/ab/abcdef…` (the first two hex digits fan the
  * files out over 256 folders). A new blob is written to `root/.tmp/` under a random name,
@@ -61,6 +70,9 @@ export function createLocalStorage(root: string): BlobStorage {
       await mkdir(path.dirname(target), { recursive: true });
       // rename is atomic within one file system; two writers of the same content both win.
       await rename(tmp, target);
+      // The file's bytes were synced before the rename; syncing the folder makes the new name
+      // durable too, before the caller commits a row that points at it.
+      await syncFolder(path.dirname(target));
       return { sha256, sizeBytes, created: true };
     } finally {
       await rm(tmp, { force: true });

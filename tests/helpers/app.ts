@@ -65,9 +65,13 @@ export async function createTestApp(
     /** Default: local storage in a fresh temp folder. */
     storage?: BlobStorage;
     uploadMaxBytes?: number;
+    /** A migrated database to use (and leave) instead of a fresh copy of the template. */
+    databaseUrl?: string;
   } = {},
 ): Promise<TestApp> {
-  const testDb = await createTestDatabase();
+  const testDb = options.databaseUrl
+    ? { url: options.databaseUrl, drop: async () => {} }
+    : await createTestDatabase();
   const database = connect(testDb.url, 5);
   const sink = await startMailSink({
     port: 0,
