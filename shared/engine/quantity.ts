@@ -151,6 +151,11 @@ function decimalToRational(text: string): { r: Rational; decimals: number } {
   const digits = (whole || '0') + frac;
   const den = 10 ** frac.length;
   const num = Number(digits);
+  // Past 308 digits num or den overflows to Infinity (and their ratio to NaN): read the text as
+  // one double instead, which is correctly rounded (a number too large stays Infinity and is
+  // refused by the caller).
+  if (!Number.isFinite(num) || !Number.isFinite(den))
+    return { r: { num: Number(text), den: 1 }, decimals: frac.length };
   return { r: reduce(num, den), decimals: frac.length };
 }
 
@@ -176,6 +181,8 @@ function readNumberPart(sc: Scanner): NumberPart {
           'a fraction needs a whole denominator greater than 0',
           den?.at ?? sc.pos,
         );
+      if (!Number.isSafeInteger(den.value))
+        throw new QuantityError('the denominator is too large', den.at);
       const num = Number(first.text);
       return {
         r: reduce(num, den.value),
@@ -202,6 +209,8 @@ function readNumberPart(sc: Scanner): NumberPart {
         const den = Number(m[2]);
         if (den === 0)
           throw new QuantityError('a fraction needs a whole denominator greater than 0', denAt);
+        if (!Number.isSafeInteger(den))
+          throw new QuantityError('the denominator is too large', denAt);
         sc.pos += m[0].length;
         const whole = Number(first.text);
         return {
@@ -232,7 +241,9 @@ function readUnit(sc: Scanner): { unit: QuantityUnit; at: number } | null {
   }
   const m = /^[A-Za-z]+/.exec(sc.s.slice(sc.pos));
   if (m) {
-    const unit = UNIT_WORDS[m[0].toLowerCase()];
+    // Own keys only: `constructor` is not a unit.
+    const word = m[0].toLowerCase();
+    const unit = Object.hasOwn(UNIT_WORDS, word) ? UNIT_WORDS[word] : undefined;
     if (!unit)
       throw new QuantityError(
         `unknown unit '${m[0]}' (use in, ", thou, ft, ', mm, cm, deg or °)`,
@@ -263,6 +274,7 @@ export function parseQuantity(text: string): Quantity {
     sc.pos++;
     sc.spaces();
   }
+  const numberAt = sc.pos;
   const first = readNumberPart(sc);
   const unit1 = readUnit(sc);
   let r = first.r;
@@ -337,6 +349,9 @@ export function parseQuantity(text: string): Quantity {
     form,
     decimals,
   };
+  // A whole number of 309 digits or more is beyond a double.
+  if (!Number.isFinite(q.value) || !Number.isFinite(q.exact.num))
+    throw new QuantityError('the number is too large', numberAt);
   if (denominator !== undefined) q.denominator = denominator;
   return q;
 }
