@@ -87,6 +87,15 @@ const DEG_MARK = '\u2111';
  */
 const QUALIFIER_MARK = '\u0298';
 
+/** A name handed to mathjs as the user wrote it, for messages. */
+function shown(name: string): string {
+  return name
+    .replaceAll(INCH_MARK + INCH_MARK, 'in')
+    .replaceAll(INCH_MARK, '"')
+    .replaceAll(DEG_MARK, '°')
+    .replaceAll(QUALIFIER_MARK, '.');
+}
+
 const OPERATOR_WORDS = new Set(['to', 'mod', 'and', 'or', 'xor', 'not']);
 const CONSTANT_WORDS = new Set(['true', 'false', 'null', 'undefined', 'NaN', 'Infinity']);
 
@@ -321,9 +330,18 @@ class SideReader {
         if (name === INCH_MARK || name === INCH_MARK + INCH_MARK)
           return { t: 'unit', unit: 'inch', at };
         if (name === DEG_MARK) return { t: 'unit', unit: 'deg', at };
-        if (UNIT_SYMBOLS[name]) return { t: 'unit', unit: UNIT_SYMBOLS[name], at };
+        if (name.includes(INCH_MARK) || name.includes(DEG_MARK)) {
+          // mathjs reads `"abc"` or `a°` as one name with the marks inside it.
+          throw new ExpressionError(
+            'forbidden',
+            `" and ° are unit marks: write them right after a number (1/8", 30°); text in quotes is not allowed`,
+            at,
+          );
+        }
+        // Own keys only: `toString` or `constructor` are names, not units or functions.
+        if (Object.hasOwn(UNIT_SYMBOLS, name)) return { t: 'unit', unit: UNIT_SYMBOLS[name], at };
         if (name === 'pi') return { t: 'num', v: Math.PI, at };
-        if (name in FUNCTIONS) {
+        if (Object.hasOwn(FUNCTIONS, name)) {
           throw new ExpressionError('forbidden', `${name} is a function: write ${name}(…)`, at);
         }
         return { t: 'sym', name: name.replace(QUALIFIER_MARK, '.'), at };
@@ -351,11 +369,11 @@ class SideReader {
         }
         const name = (f.fn as unknown as { name: string }).name;
         const at = this.take('ident', name);
-        const arity = FUNCTIONS[name as FunctionName];
+        const arity = Object.hasOwn(FUNCTIONS, name) ? FUNCTIONS[name as FunctionName] : null;
         if (!arity) {
           throw new ExpressionError(
             'forbidden',
-            `unknown function '${name}' (allowed: ${Object.keys(FUNCTIONS).join(', ')})`,
+            `unknown function '${shown(name)}' (allowed: ${Object.keys(FUNCTIONS).join(', ')})`,
             at,
           );
         }
