@@ -101,11 +101,13 @@ const CONSTANT_WORDS = new Set(['true', 'false', 'null', 'undefined', 'NaN', 'In
 
 /**
  * Names a dimension may not take: unit symbols, functions, pi and words mathjs reads as
- * operators or constants.
+ * operators or constants, and `__proto__`, which as a key of a plain object (the solved values
+ * by name) sets the object's prototype instead of adding an entry.
  */
 export const RESERVED_NAMES: ReadonlySet<string> = new Set([
   'in',
   'pi',
+  '__proto__',
   ...Object.keys(UNIT_SYMBOLS),
   ...Object.keys(FUNCTIONS),
   ...OPERATOR_WORDS,
