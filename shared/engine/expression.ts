@@ -163,6 +163,15 @@ const WORD_RE = /[A-Za-z_][A-Za-z0-9_]*/y;
 const DIGIT = /[0-9]/;
 const WORD_START = /[A-Za-z_]/;
 
+/**
+ * The whole character at i, for a message: both halves of a surrogate pair (an emoji), and
+ * U+FFFD for half of one, so a message is always well-formed text.
+ */
+function characterAt(src: string, i: number): string {
+  const c = src.codePointAt(i)!;
+  return c >= 0xd800 && c <= 0xdfff ? '\ufffd' : String.fromCodePoint(c);
+}
+
 /** Splits a relation into tokens, refusing forbidden characters and words at their offset. */
 function lex(src: string): { tokens: Token[]; prepared: string } {
   // Characters to replace for mathjs, by offset; most relations need none.
@@ -269,7 +278,7 @@ function lex(src: string): { tokens: Token[]; prepared: string } {
     const why = FORBIDDEN_CHARS[c];
     throw new ExpressionError(
       why ? 'forbidden' : 'syntax',
-      why ?? `unexpected character '${c}'`,
+      why ?? `unexpected character '${characterAt(src, i)}'`,
       i,
     );
   }

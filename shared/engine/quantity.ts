@@ -124,6 +124,15 @@ class Scanner {
   peek(): string {
     return this.s[this.pos] ?? '';
   }
+  /**
+   * The whole character here, for a message: both halves of a surrogate pair (an emoji), and
+   * U+FFFD for half of one, so a message is always well-formed text.
+   */
+  shown(): string {
+    const c = this.s.codePointAt(this.pos);
+    if (c === undefined) return '';
+    return c >= 0xd800 && c <= 0xdfff ? '\ufffd' : String.fromCodePoint(c);
+  }
   atEnd(): boolean {
     return this.pos >= this.s.length;
   }
@@ -164,7 +173,7 @@ function readNumberPart(sc: Scanner): NumberPart {
   const first = sc.decimal();
   if (!first)
     throw new QuantityError(
-      sc.atEnd() ? 'expected a number' : `expected a number, found '${sc.peek()}'`,
+      sc.atEnd() ? 'expected a number' : `expected a number, found '${sc.shown()}'`,
       sc.pos,
     );
   const isInteger = !first.text.includes('.');
@@ -332,7 +341,7 @@ export function parseQuantity(text: string): Quantity {
     }
   }
   sc.spaces();
-  if (!sc.atEnd()) throw new QuantityError(`unexpected '${sc.peek()}'`, sc.pos);
+  if (!sc.atEnd()) throw new QuantityError(`unexpected '${sc.shown()}'`, sc.pos);
 
   r = { num: sign * r.num, den: r.den };
   const family = unit ? UNIT_FACTOR[unit] : null;

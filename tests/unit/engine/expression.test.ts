@@ -131,6 +131,12 @@ describe('parseRelation', () => {
     expect(bind('x = 1/8" * cos(0°)', { x: 'length' }).residual(Float64Array.of(0.125))).toBe(0);
   });
 
+  it('names an emoji whole in its message, and half of one as U+FFFD (messages are stored as JSON)', () => {
+    expect(() => parseRelation('x = 😀')).toThrow("unexpected character '😀'");
+    expect(refusal('x = 😀')).toEqual({ code: 'syntax', at: 4 });
+    expect(() => parseRelation('x = \ude00')).toThrow("unexpected character '\ufffd'");
+  });
+
   it('names an unknown function as it was written', () => {
     expect(() => parseRelation('x = "(a)')).toThrow(`unknown function '"'`);
   });

@@ -102,6 +102,12 @@ describe('parseQuantity', () => {
     expect(parseQuantity(`0.${'0'.repeat(400)}1 mm`).value).toBe(0);
   });
 
+  it('names an emoji whole in its message, and half of one as U+FFFD (messages are stored as JSON)', () => {
+    expect(() => parseQuantity('😀')).toThrow("expected a number, found '😀'");
+    expect(() => parseQuantity('3 mm 😀')).toThrow("unexpected '😀'");
+    expect(() => parseQuantity('\ud83d')).toThrow("expected a number, found '\ufffd'");
+  });
+
   it('refuses a number or a denominator beyond a double, at its position', () => {
     expect(errorAt('9'.repeat(400))).toBe(0);
     expect(errorAt(`- ${'9'.repeat(400)}.5 in`)).toBe(2);
