@@ -65,6 +65,8 @@ export async function createTestApp(
     /** Default: local storage in a fresh temp folder. */
     storage?: BlobStorage;
     uploadMaxBytes?: number;
+    /** POST /api/solve calls per user per minute (default: the app's, 120). */
+    solvesPerMinute?: number;
   } = {},
 ): Promise<TestApp> {
   const testDb = await createTestDatabase();
@@ -84,6 +86,7 @@ export async function createTestApp(
     storage,
     uploadMaxBytes: options.uploadMaxBytes,
     uploadTempDir,
+    solvesPerMinute: options.solvesPerMinute,
     hasher: testHasher,
     sessionSecret: options.sessionSecret ?? randomBytes(32).toString('hex'),
     appUrl: options.appUrl ?? 'http://127.0.0.1:3000',

@@ -20,6 +20,7 @@ import {
 import { DIMENSION_NAME } from '@shared/engine/model';
 
 const runs = { numRuns: 10_000 };
+const HALF_PAIR = /[\ud800-\udbff](?![\udc00-\udfff])|(?<![\ud800-\udbff])[\udc00-\udfff]/;
 const timeout = 180_000;
 
 const SENTINEL = '__fairsheetEscape';
@@ -100,6 +101,8 @@ function expectOwnError(e: unknown, text: string): asserts e is ExpressionError 
   expect(typeof e.at).toBe('number');
   expect(e.at! >= 0 && e.at! <= text.length).toBe(true);
   expect(e.message.length).toBeGreaterThan(0);
+  // Messages end up in stored results (jsonb), which refuse half a surrogate pair.
+  expect(e.message).not.toMatch(HALF_PAIR);
 }
 
 /** Every name a relation may use stands for a dimension; a few are angles or counts. */
@@ -414,6 +417,10 @@ describe('the relation allow-list on bad input (property, 10,000 cases each)', (
         'toString',
         'evaluate',
         'import',
+        // An emoji, and each half of one alone.
+        '😀',
+        '\ud83d',
+        '\ude00',
       ];
       fc.assert(
         fc.property(
