@@ -13,9 +13,35 @@ export function fieldIssues(error: z.ZodError): FieldIssue[] {
   return error.issues.map((i) => ({ path: i.path.join('.'), message: i.message }));
 }
 
+// PostgreSQL stores no NUL character in text, and its jsonb refuses a \u0000 escape and an
+// unpaired surrogate escape (JSON.stringify writes a lone surrogate as one): either would fail
+// the insert with a 500.
+const UNSTORABLE = /\u0000|[\ud800-\udbff](?![\udc00-\udfff])|(?<![\ud800-\udbff])[\udc00-\udfff]/;
+
+/**
+ * Strings (and object keys) in a parsed value that the database cannot store, by path.
+ *
+ * @example unstorableText({ note: 'a\u0000b' }) // [{ path: 'note', message: … }]
+ */
+export function unstorableText(value: unknown, path: string[] = []): FieldIssue[] {
+  const at = (p: string[]) => ({
+    path: p.join('.'),
+    message: 'holds a character that cannot be stored (a NUL character or half a surrogate pair)',
+  });
+  if (typeof value === 'string') return UNSTORABLE.test(value) ? [at(path)] : [];
+  if (Array.isArray(value)) return value.flatMap((v, i) => unstorableText(v, [...path, String(i)]));
+  if (value && typeof value === 'object') {
+    return Object.entries(value).flatMap(([k, v]) =>
+      UNSTORABLE.test(k) ? [at([...path, k])] : unstorableText(v, [...path, k]),
+    );
+  }
+  return [];
+}
+
 /**
  * Validates the parts of a request against zod schemas from shared/api and replaces them with
- * the parsed values, so handlers see clean, typed data. A 400 names every offending field.
+ * the parsed values, so handlers see clean, typed data; text the database cannot store is
+ * refused with them. A 400 names every offending field.
  */
 export function validate(schemas: Schemas): RequestHandler {
   return (req, res, next) => {
@@ -24,7 +50,10 @@ export function validate(schemas: Schemas): RequestHandler {
       const schema = schemas[part];
       if (!schema) continue;
       const result = schema.safeParse(req[part] ?? {});
-      if (result.success) {
+      const unstorable = result.success ? unstorableText(result.data) : [];
+      if (unstorable.length) {
+        fields.push(...unstorable.map((f) => ({ ...f, path: f.path || part })));
+      } else if (result.success) {
         // Express 5 makes req.query a getter; keep parsed values on res.locals for it.
         if (part === 'query') res.locals.query = result.data;
         else req[part] = result.data;

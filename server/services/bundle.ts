@@ -23,6 +23,7 @@ import * as sheetRepo from '../db/sheets';
 import { insertComment, insertCorrection } from '../db/team';
 import { diffModels, solveModel } from '@shared/engine';
 import { unprocessable } from '../http/errors';
+import { unstorableText } from '../http/validate';
 import type { BlobStorage } from '../storage/storage';
 import type { ActivityService } from './activity';
 import type { CommentService } from './comments';
@@ -95,6 +96,8 @@ async function readJson<S extends z.ZodType>(
       `${name} does not match the bundle format (${first.path.join('.') || 'top'}: ${first.message})`,
     );
   }
+  const [unstorable] = unstorableText(parsed.data);
+  if (unstorable) throw damaged(`${name} ${unstorable.message} at ${unstorable.path || 'top'}`);
   return parsed.data;
 }
 

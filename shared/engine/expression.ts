@@ -87,16 +87,27 @@ const DEG_MARK = '\u2111';
  */
 const QUALIFIER_MARK = '\u0298';
 
+/** A name handed to mathjs as the user wrote it, for messages. */
+function shown(name: string): string {
+  return name
+    .replaceAll(INCH_MARK + INCH_MARK, 'in')
+    .replaceAll(INCH_MARK, '"')
+    .replaceAll(DEG_MARK, '°')
+    .replaceAll(QUALIFIER_MARK, '.');
+}
+
 const OPERATOR_WORDS = new Set(['to', 'mod', 'and', 'or', 'xor', 'not']);
 const CONSTANT_WORDS = new Set(['true', 'false', 'null', 'undefined', 'NaN', 'Infinity']);
 
 /**
  * Names a dimension may not take: unit symbols, functions, pi and words mathjs reads as
- * operators or constants.
+ * operators or constants, and `__proto__`, which as a key of a plain object (the solved values
+ * by name) sets the object's prototype instead of adding an entry.
  */
 export const RESERVED_NAMES: ReadonlySet<string> = new Set([
   'in',
   'pi',
+  '__proto__',
   ...Object.keys(UNIT_SYMBOLS),
   ...Object.keys(FUNCTIONS),
   ...OPERATOR_WORDS,
@@ -151,6 +162,15 @@ const NUMBER_RE = /(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?/y;
 const WORD_RE = /[A-Za-z_][A-Za-z0-9_]*/y;
 const DIGIT = /[0-9]/;
 const WORD_START = /[A-Za-z_]/;
+
+/**
+ * The whole character at i, for a message: both halves of a surrogate pair (an emoji), and
+ * U+FFFD for half of one, so a message is always well-formed text.
+ */
+function characterAt(src: string, i: number): string {
+  const c = src.codePointAt(i)!;
+  return c >= 0xd800 && c <= 0xdfff ? '\ufffd' : String.fromCodePoint(c);
+}
 
 /** Splits a relation into tokens, refusing forbidden characters and words at their offset. */
 function lex(src: string): { tokens: Token[]; prepared: string } {
@@ -258,7 +278,7 @@ function lex(src: string): { tokens: Token[]; prepared: string } {
     const why = FORBIDDEN_CHARS[c];
     throw new ExpressionError(
       why ? 'forbidden' : 'syntax',
-      why ?? `unexpected character '${c}'`,
+      why ?? `unexpected character '${characterAt(src, i)}'`,
       i,
     );
   }
@@ -321,9 +341,18 @@ class SideReader {
         if (name === INCH_MARK || name === INCH_MARK + INCH_MARK)
           return { t: 'unit', unit: 'inch', at };
         if (name === DEG_MARK) return { t: 'unit', unit: 'deg', at };
-        if (UNIT_SYMBOLS[name]) return { t: 'unit', unit: UNIT_SYMBOLS[name], at };
+        if (name.includes(INCH_MARK) || name.includes(DEG_MARK)) {
+          // mathjs reads `"abc"` or `a°` as one name with the marks inside it.
+          throw new ExpressionError(
+            'forbidden',
+            `" and ° are unit marks: write them right after a number (1/8", 30°); text in quotes is not allowed`,
+            at,
+          );
+        }
+        // Own keys only: `toString` or `constructor` are names, not units or functions.
+        if (Object.hasOwn(UNIT_SYMBOLS, name)) return { t: 'unit', unit: UNIT_SYMBOLS[name], at };
         if (name === 'pi') return { t: 'num', v: Math.PI, at };
-        if (name in FUNCTIONS) {
+        if (Object.hasOwn(FUNCTIONS, name)) {
           throw new ExpressionError('forbidden', `${name} is a function: write ${name}(…)`, at);
         }
         return { t: 'sym', name: name.replace(QUALIFIER_MARK, '.'), at };
@@ -351,11 +380,11 @@ class SideReader {
         }
         const name = (f.fn as unknown as { name: string }).name;
         const at = this.take('ident', name);
-        const arity = FUNCTIONS[name as FunctionName];
+        const arity = Object.hasOwn(FUNCTIONS, name) ? FUNCTIONS[name as FunctionName] : null;
         if (!arity) {
           throw new ExpressionError(
             'forbidden',
-            `unknown function '${name}' (allowed: ${Object.keys(FUNCTIONS).join(', ')})`,
+            `unknown function '${shown(name)}' (allowed: ${Object.keys(FUNCTIONS).join(', ')})`,
             at,
           );
         }

@@ -124,6 +124,15 @@ class Scanner {
   peek(): string {
     return this.s[this.pos] ?? '';
   }
+  /**
+   * The whole character here, for a message: both halves of a surrogate pair (an emoji), and
+   * U+FFFD for half of one, so a message is always well-formed text.
+   */
+  shown(): string {
+    const c = this.s.codePointAt(this.pos);
+    if (c === undefined) return '';
+    return c >= 0xd800 && c <= 0xdfff ? '\ufffd' : String.fromCodePoint(c);
+  }
   atEnd(): boolean {
     return this.pos >= this.s.length;
   }
@@ -151,6 +160,11 @@ function decimalToRational(text: string): { r: Rational; decimals: number } {
   const digits = (whole || '0') + frac;
   const den = 10 ** frac.length;
   const num = Number(digits);
+  // Past 308 digits num or den overflows to Infinity (and their ratio to NaN): read the text as
+  // one double instead, which is correctly rounded (a number too large stays Infinity and is
+  // refused by the caller).
+  if (!Number.isFinite(num) || !Number.isFinite(den))
+    return { r: { num: Number(text), den: 1 }, decimals: frac.length };
   return { r: reduce(num, den), decimals: frac.length };
 }
 
@@ -159,7 +173,7 @@ function readNumberPart(sc: Scanner): NumberPart {
   const first = sc.decimal();
   if (!first)
     throw new QuantityError(
-      sc.atEnd() ? 'expected a number' : `expected a number, found '${sc.peek()}'`,
+      sc.atEnd() ? 'expected a number' : `expected a number, found '${sc.shown()}'`,
       sc.pos,
     );
   const isInteger = !first.text.includes('.');
@@ -176,6 +190,8 @@ function readNumberPart(sc: Scanner): NumberPart {
           'a fraction needs a whole denominator greater than 0',
           den?.at ?? sc.pos,
         );
+      if (!Number.isSafeInteger(den.value))
+        throw new QuantityError('the denominator is too large', den.at);
       const num = Number(first.text);
       return {
         r: reduce(num, den.value),
@@ -202,6 +218,8 @@ function readNumberPart(sc: Scanner): NumberPart {
         const den = Number(m[2]);
         if (den === 0)
           throw new QuantityError('a fraction needs a whole denominator greater than 0', denAt);
+        if (!Number.isSafeInteger(den))
+          throw new QuantityError('the denominator is too large', denAt);
         sc.pos += m[0].length;
         const whole = Number(first.text);
         return {
@@ -232,7 +250,9 @@ function readUnit(sc: Scanner): { unit: QuantityUnit; at: number } | null {
   }
   const m = /^[A-Za-z]+/.exec(sc.s.slice(sc.pos));
   if (m) {
-    const unit = UNIT_WORDS[m[0].toLowerCase()];
+    // Own keys only: `constructor` is not a unit.
+    const word = m[0].toLowerCase();
+    const unit = Object.hasOwn(UNIT_WORDS, word) ? UNIT_WORDS[word] : undefined;
     if (!unit)
       throw new QuantityError(
         `unknown unit '${m[0]}' (use in, ", thou, ft, ', mm, cm, deg or °)`,
@@ -263,6 +283,7 @@ export function parseQuantity(text: string): Quantity {
     sc.pos++;
     sc.spaces();
   }
+  const numberAt = sc.pos;
   const first = readNumberPart(sc);
   const unit1 = readUnit(sc);
   let r = first.r;
@@ -320,7 +341,7 @@ export function parseQuantity(text: string): Quantity {
     }
   }
   sc.spaces();
-  if (!sc.atEnd()) throw new QuantityError(`unexpected '${sc.peek()}'`, sc.pos);
+  if (!sc.atEnd()) throw new QuantityError(`unexpected '${sc.shown()}'`, sc.pos);
 
   r = { num: sign * r.num, den: r.den };
   const family = unit ? UNIT_FACTOR[unit] : null;
@@ -337,6 +358,9 @@ export function parseQuantity(text: string): Quantity {
     form,
     decimals,
   };
+  // A whole number of 309 digits or more is beyond a double.
+  if (!Number.isFinite(q.value) || !Number.isFinite(q.exact.num))
+    throw new QuantityError('the number is too large', numberAt);
   if (denominator !== undefined) q.denominator = denominator;
   return q;
 }

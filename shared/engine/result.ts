@@ -110,6 +110,8 @@ export interface EngineError {
   at?: number;
   /** For a failed solve: the largest remaining residual. */
   residual?: number;
+  /** For a block the time limit stopped before it converged: that limit, ms. */
+  timeLimitMs?: number;
 }
 
 export interface MonteCarloValue {

@@ -184,7 +184,10 @@ export function prepareModel(model: FairsheetModel): PreparedModel {
       errors.push({
         code: 'reserved-name',
         dimension: d.name,
-        message: `'${d.name}' is reserved (a unit, function or operator name)`,
+        message:
+          d.name === '__proto__'
+            ? `'${d.name}' is reserved (JavaScript objects keep it for themselves)`
+            : `'${d.name}' is reserved (a unit, function or operator name)`,
       });
       continue;
     }
@@ -304,6 +307,8 @@ interface BlockFailure {
 interface SolveContext {
   maxIterations: number;
   deadline: number;
+  /** The time limit the deadline came from, ms (for the message of a block it stopped). */
+  timeLimitMs: number;
 }
 
 const now = (): number => (typeof performance !== 'undefined' ? performance.now() : Date.now());
@@ -449,6 +454,7 @@ function solveBlock(
 
   // Damped Newton.
   let lastNorm = Infinity;
+  let timedOut = false;
   const trial = new Float64Array(n);
   for (let iter = 0; iter <= ctx.maxIterations; iter++) {
     const lin = linearizeBlock(rels, colOf, x);
@@ -466,7 +472,11 @@ function solveBlock(
       return null;
     }
     lastNorm = norm2(lin.F);
-    if (iter === ctx.maxIterations || now() > ctx.deadline) break;
+    if (iter === ctx.maxIterations) break;
+    if (now() > ctx.deadline) {
+      timedOut = true;
+      break;
+    }
     const d = newtonStep(n, lin);
     if (!d) {
       // Singular Jacobian: nudge the unknowns off the singular point and try again.
@@ -495,6 +505,17 @@ function solveBlock(
   residuals(rels, x, F);
   const left = Number.isFinite(maxAbs(F)) ? maxAbs(F) : lastNorm;
   for (const u of unknowns) x[u] = NaN;
+  if (timedOut) {
+    return {
+      error: {
+        code: 'no-convergence',
+        relation: ids[0],
+        message: `${what()} was stopped by the time limit of ${ctx.timeLimitMs} ms before it converged (largest residual ${left.toPrecision(3)})`,
+        residual: left,
+        timeLimitMs: ctx.timeLimitMs,
+      },
+    };
+  }
   return {
     error: {
       code: 'no-convergence',
@@ -565,9 +586,11 @@ function solveStructure(prep: PreparedModel, options: SolveOptions): Solution {
     return e;
   });
   const structure = analyseStructure(prep.relations.length, unknownDims.length, edges);
+  const timeLimitMs = options.timeLimitMs ?? 2000;
   const ctx: SolveContext = {
     maxIterations: options.maxIterations ?? 100,
-    deadline: now() + (options.timeLimitMs ?? 2000),
+    deadline: now() + timeLimitMs,
+    timeLimitMs,
   };
   const colOf = new Int32Array(dims.length).fill(-1);
   const names = dims.map((d) => d.name);
@@ -594,7 +617,7 @@ function solveStructure(prep: PreparedModel, options: SolveOptions): Solution {
 function resolveBlocks(sol: Solution, x: Float64Array, blocks: Solution['blocks']): boolean {
   const colOf = new Int32Array(x.length).fill(-1);
   const names = sol.prep.dimensions.map((d) => d.name);
-  const ctx: SolveContext = { maxIterations: 50, deadline: now() + 1000 };
+  const ctx: SolveContext = { maxIterations: 50, deadline: now() + 1000, timeLimitMs: 1000 };
   for (const b of blocks) {
     if (!b.ok) continue;
     b.unknowns.forEach((u, c) => (colOf[u] = c));

@@ -264,7 +264,14 @@ export function useSheetImage(
     const pdfjs = await import('pdfjs-dist');
     const { default: workerSrc } = await import('pdfjs-dist/build/pdf.worker.min.mjs?url');
     pdfjs.GlobalWorkerOptions.workerSrc = workerSrc;
-    const doc = await pdfjs.getDocument({ data: new Uint8Array(await blob.arrayBuffer()) }).promise;
+    // A PDF may carry JavaScript and odd functions. This is pdf.js's display layer, which never
+    // runs a document's scripts (that needs its viewer's scripting sandbox, not loaded here);
+    // isEvalSupported: false also keeps it from compiling the PDF's functions with eval.
+    const doc = await pdfjs.getDocument({
+      data: new Uint8Array(await blob.arrayBuffer()),
+      isEvalSupported: false,
+      enableXfa: false,
+    }).promise;
     if (signal.aborted) {
       void doc.destroy();
       return null;

@@ -187,6 +187,34 @@ describe('project bundles', () => {
     );
   });
 
+  it('refuses a bundle whose model holds a NUL character with 422 naming it, not a 500', async () => {
+    const bad = await zipOf({
+      'manifest.json': JSON.stringify({
+        format: 'fairsheet.bundle',
+        version: 1,
+        exportedAt: 'today',
+        project: { name: 'X', displayUnit: 'in', modelScale: null },
+        files: [],
+      }),
+      'model.json': JSON.stringify({
+        format: 'fairsheet.model',
+        version: 1,
+        units: 'in',
+        dimensions: [{ name: 'a', kind: 'stated', value: '1', note: 'nul\u0000here' }],
+      }),
+      'sheets.json': '[]',
+      'corrections.json': '[]',
+      'comments.json': '[]',
+    });
+    const before = await projectCount();
+    const res = await importBundle(other, bad);
+    expect(res.status).toBe(422);
+    expect(res.body.error.message).toMatch(
+      /model\.json holds a character that cannot be stored .* at dimensions\.0\.note/,
+    );
+    expect(await projectCount()).toBe(before);
+  });
+
   it('a stranger cannot export someone else’s project (404); signed out is 401', async () => {
     expect((await other.get(`/api/projects/${demoId}/export`)).status).toBe(404);
     const anon = new TestClient(t.app);

@@ -95,6 +95,36 @@ describe('the model and its revisions', () => {
     expect((await owner.get(url('/model'))).body.revision).toBe(before.revision);
   });
 
+  it('text the database cannot store (a NUL, half a surrogate pair) is refused with 400 naming the field, not a 500', async () => {
+    const before = (await owner.get(url('/model'))).body;
+    for (const [text, path] of [
+      ['nul\u0000here', 'model.dimensions.0.note'],
+      ['lone \ud800 half', 'model.dimensions.0.note'],
+      ['\udc00', 'model.dimensions.0.note'],
+    ]) {
+      const model = structuredClone(before.model);
+      model.dimensions[0].note = text;
+      const res = await owner.put(url('/model'), { revision: before.revision, model });
+      expect(res.status).toBe(400);
+      expect(res.body.error.details.fields).toEqual([
+        { path, message: expect.stringMatching(/NUL character or half a surrogate pair/) },
+      ]);
+    }
+    const note = await owner.put(url('/model'), {
+      revision: before.revision,
+      model: before.model,
+      note: 'a\u0000b',
+    });
+    expect(note.status).toBe(400);
+    expect(note.body.error.message).toBe('Please check: note.');
+    // A whole pair (an emoji) is fine.
+    const model = structuredClone(before.model);
+    model.dimensions[0].note = 'checked 👍';
+    const ok = await owner.put(url('/model'), { revision: before.revision, model }).expect(200);
+    model.dimensions[0].note = before.model.dimensions[0].note;
+    await owner.put(url('/model'), { revision: ok.body.revision, model }).expect(200);
+  });
+
   it('a model with a broken relation still saves, and its result names the error', async () => {
     const before = (await owner.get(url('/model'))).body;
     const model = structuredClone(before.model);

@@ -67,6 +67,8 @@ export async function createTestApp(
     uploadMaxBytes?: number;
     /** A migrated database to use (and leave) instead of a fresh copy of the template. */
     databaseUrl?: string;
+    /** POST /api/solve calls per user per minute (default: the app's, 120). */
+    solvesPerMinute?: number;
   } = {},
 ): Promise<TestApp> {
   const testDb = options.databaseUrl
@@ -88,6 +90,7 @@ export async function createTestApp(
     storage,
     uploadMaxBytes: options.uploadMaxBytes,
     uploadTempDir,
+    solvesPerMinute: options.solvesPerMinute,
     hasher: testHasher,
     sessionSecret: options.sessionSecret ?? randomBytes(32).toString('hex'),
     appUrl: options.appUrl ?? 'http://127.0.0.1:3000',

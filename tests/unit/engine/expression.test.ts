@@ -29,7 +29,7 @@ function bind(
   const names = Object.keys(dims);
   return bindRelation(
     parseRelation(text),
-    (n) => (n in dims ? { index: names.indexOf(n), quantity: dims[n] } : undefined),
+    (n) => (Object.hasOwn(dims, n) ? { index: names.indexOf(n), quantity: dims[n] } : undefined),
     unit,
   );
 }
@@ -105,6 +105,40 @@ describe('parseRelation', () => {
     expect(refusal('= x')).toEqual({ code: 'syntax', at: 0 });
     expect(refusal('x = sqrt(a, b)')).toEqual({ code: 'syntax', at: 4 });
     expect(refusal('x = @')).toEqual({ code: 'syntax', at: 4 });
+  });
+
+  it('reads names of properties every object has (toString, constructor) as names, never as units or functions', () => {
+    for (const name of ['toString', 'constructor', 'valueOf', 'hasOwnProperty', '__proto__']) {
+      expect(parseRelation(`x = ${name} + 1`).names).toEqual(['x', name]);
+      expect(bindError(`x = ${name}`, { x: 'length' })).toEqual({ code: 'unknown-name', at: 4 });
+      expect(refusal(`x = ${name}(a)`)).toEqual({ code: 'forbidden', at: 4 });
+    }
+    const dims = Object.fromEntries([
+      ['x', 'length'],
+      ['toString', 'length'],
+    ]) as Record<string, SymbolQuantity>;
+    const r = bind('x = toString * 2', dims);
+    expect(r.residual(Float64Array.of(7, 3))).toBe(1);
+  });
+
+  it('refuses quoted text and a unit mark after a name, at the start of the name', () => {
+    expect(refusal('x = "abc"')).toEqual({ code: 'forbidden', at: 4 });
+    expect(refusal('x = 1/8" + "5 cm"')).toEqual({ code: 'forbidden', at: 11 });
+    expect(refusal('x = a°')).toEqual({ code: 'forbidden', at: 4 });
+    expect(refusal('x = 2 in"')).toEqual({ code: 'forbidden', at: 6 });
+    expect(() => parseExpression('"abc"')).toThrow(/text in quotes is not allowed/);
+    // The marks themselves still read as units.
+    expect(bind('x = 1/8" * cos(0°)', { x: 'length' }).residual(Float64Array.of(0.125))).toBe(0);
+  });
+
+  it('names an emoji whole in its message, and half of one as U+FFFD (messages are stored as JSON)', () => {
+    expect(() => parseRelation('x = 😀')).toThrow("unexpected character '😀'");
+    expect(refusal('x = 😀')).toEqual({ code: 'syntax', at: 4 });
+    expect(() => parseRelation('x = \ude00')).toThrow("unexpected character '\ufffd'");
+  });
+
+  it('names an unknown function as it was written', () => {
+    expect(() => parseRelation('x = "(a)')).toThrow(`unknown function '"'`);
   });
 
   it('parses a plain expression and refuses = in one', () => {

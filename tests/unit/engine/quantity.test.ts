@@ -89,6 +89,32 @@ describe('parseQuantity', () => {
     expect(errorAt('1 2')).toBe(2);
     expect(errorAt('1.5 mm x')).toBe(7);
   });
+
+  it('refuses a word that names a property of every object (constructor) as an unknown unit', () => {
+    expect(errorAt('0constructor')).toBe(1);
+    expect(errorAt('3 CONSTRUCTOR')).toBe(2);
+  });
+
+  it('reads a decimal of more than 308 digits by its value, not as NaN', () => {
+    const q = parseQuantity(`10.${'0'.repeat(320)}1`);
+    expect(q.value).toBe(10);
+    expect(q.decimals).toBe(321);
+    expect(parseQuantity(`0.${'0'.repeat(400)}1 mm`).value).toBe(0);
+  });
+
+  it('names an emoji whole in its message, and half of one as U+FFFD (messages are stored as JSON)', () => {
+    expect(() => parseQuantity('😀')).toThrow("expected a number, found '😀'");
+    expect(() => parseQuantity('3 mm 😀')).toThrow("unexpected '😀'");
+    expect(() => parseQuantity('\ud83d')).toThrow("expected a number, found '\ufffd'");
+  });
+
+  it('refuses a number or a denominator beyond a double, at its position', () => {
+    expect(errorAt('9'.repeat(400))).toBe(0);
+    expect(errorAt(`- ${'9'.repeat(400)}.5 in`)).toBe(2);
+    expect(errorAt(`1/${'9'.repeat(400)}`)).toBe(2);
+    expect(errorAt(`1 1/${'9'.repeat(400)}"`)).toBe(4);
+    expect(errorAt(`1' ${'9'.repeat(400)}"`)).toBe(0);
+  });
 });
 
 describe('conversion and formatting', () => {

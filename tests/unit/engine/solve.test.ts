@@ -176,6 +176,24 @@ describe('solveModel: chains and blocks', () => {
     expect(r.values.x.value).toBeNull();
   });
 
+  it('says when the time limit, not the block, stopped a non-linear solve', () => {
+    const m = model(
+      [given('r', 13), given('h', 5), derived('x')],
+      [['circle', 'x^2 + h^2 = r^2']],
+      'mm',
+    );
+    const r = solveModel(m, { timeLimitMs: 0, maxIterations: 1e9 });
+    expect(r.errors).toEqual([
+      expect.objectContaining({ code: 'no-convergence', relation: 'circle', timeLimitMs: 0 }),
+    ]);
+    expect(r.errors[0].message).toMatch(/stopped by the time limit of 0 ms before it converged/);
+    // Out of iterations instead: the old message, and no time limit named.
+    const out = solveModel(m, { maxIterations: 0 });
+    expect(out.errors[0].message).toMatch(/did not converge/);
+    expect(out.errors[0].timeLimitMs).toBeUndefined();
+    expect(value(solveModel(m), 'x')).toBeCloseTo(12, 9); // 5-12-13 triangle
+  });
+
   it('gives derived angles in degrees', () => {
     const r = solveModel(
       model(
@@ -356,6 +374,21 @@ describe('solveModel: errors', () => {
     expect(codes(r)).toEqual(['reserved-name', 'bad-value', 'bad-value']);
     expect(r.errors[1]).toMatchObject({ dimension: 'a', at: 6 });
     expect(r.errors[2].message).toMatch(/unit mismatch/);
+  });
+
+  it('reserves __proto__, which would otherwise vanish from the values; other object words are names', () => {
+    const r = solveModel(
+      model(
+        [given('__proto__', 1), given('constructor', 2), given('toString', 3), derived('x')],
+        [['sum', 'x = constructor + toString']],
+      ),
+    );
+    expect(r.errors).toEqual([
+      expect.objectContaining({ code: 'reserved-name', dimension: '__proto__' }),
+    ]);
+    expect(Object.keys(r.values)).toEqual(['constructor', 'toString', 'x']);
+    expect(value(r, 'x')).toBe(5);
+    expect(Object.getPrototypeOf(r.values)).toBe(Object.prototype);
   });
 
   it('reports unknown names, syntax errors and forbidden constructs with relation and position', () => {
