@@ -530,7 +530,7 @@ describe('a new builder’s journey, from an empty account to the shop sheet, in
       await featureForm.getByLabel('X position').fill('bolt2_x');
       await featureForm.getByLabel('Y position').fill('bolt_y');
       // The BA series entry of the catalogue (not the free-typed tag offered above it).
-      await featureForm.getByLabel('Thread').fill('2BA');
+      await featureForm.getByRole('textbox', { name: 'Thread' }).fill('2BA');
       await page.locator('.n-base-select-option--grouped', { hasText: /^2BA$/ }).click();
       await featureForm.getByTestId('thread-suggestion').waitFor();
       await featureForm.getByRole('button', { name: 'Keep' }).click();
