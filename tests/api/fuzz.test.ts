@@ -130,12 +130,15 @@ function places(root: { body: Json }): Array<[Record<string, Json> | Json[], str
 function mutate(body: Json, mutations: Mutation[]): Json {
   const root = { body: structuredClone(body) };
   for (const m of mutations) {
+    // A copy: constantFrom hands out the same [] and {} every time, and one pushed into
+    // itself would make the body circular (and change the constant for later cases).
+    const value = structuredClone(m.value);
     const all = places(root);
     const [holder, key] = all[m.at % all.length];
     const current = (holder as Record<string, Json>)[key as string];
     switch (m.op) {
       case 'replace':
-        (holder as Record<string, Json>)[key as string] = m.value;
+        (holder as Record<string, Json>)[key as string] = value;
         break;
       case 'delete':
         if (Array.isArray(holder)) holder.splice(key as number, 1);
@@ -143,10 +146,10 @@ function mutate(body: Json, mutations: Mutation[]): Json {
         break;
       case 'add':
         // defineProperty, so a key of `__proto__` is sent as a key, not taken as a prototype.
-        if (Array.isArray(current)) current.push(m.value);
+        if (Array.isArray(current)) current.push(value);
         else if (current && typeof current === 'object')
           Object.defineProperty(current, m.key, {
-            value: m.value,
+            value,
             enumerable: true,
             writable: true,
             configurable: true,
