@@ -71,34 +71,37 @@ export function createApp(deps: AppDeps): Express {
   const app = express();
   app.disable('x-powered-by');
   // One structured line per request. Cookies, CSRF tokens and credentials never reach the log;
-  // bodies (passwords, reset tokens) are not logged at all.
-  app.use(
-    pinoHttp(
-      {
-        level: deps.logLevel ?? 'silent',
-        redact: {
-          paths: [
-            'req.headers.cookie',
-            'req.headers.authorization',
-            'req.headers["x-csrf-token"]',
-            'res.headers["set-cookie"]',
-          ],
-          censor: '[hidden]',
+  // bodies (passwords, reset tokens) are not logged at all. At `silent` there is nothing to log,
+  // and the middleware (a child logger per request) is left out.
+  if ((deps.logLevel ?? 'silent') !== 'silent') {
+    app.use(
+      pinoHttp(
+        {
+          level: deps.logLevel,
+          redact: {
+            paths: [
+              'req.headers.cookie',
+              'req.headers.authorization',
+              'req.headers["x-csrf-token"]',
+              'res.headers["set-cookie"]',
+            ],
+            censor: '[hidden]',
+          },
+          serializers: {
+            req: (req: { method: string; url: string; id: unknown }) => ({
+              id: req.id,
+              method: req.method,
+              url: req.url
+                .replace(/([?&]token=)[^&]+/, '$1[hidden]')
+                .replace(/(\/invitations\/)[\w-]{20,}/, '$1[hidden]'),
+            }),
+          },
+          autoLogging: { ignore: (req) => req.url === '/api/health' },
         },
-        serializers: {
-          req: (req: { method: string; url: string; id: unknown }) => ({
-            id: req.id,
-            method: req.method,
-            url: req.url
-              .replace(/([?&]token=)[^&]+/, '$1[hidden]')
-              .replace(/(\/invitations\/)[\w-]{20,}/, '$1[hidden]'),
-          }),
-        },
-        autoLogging: { ignore: (req) => req.url === '/api/health' },
-      },
-      deps.logStream,
-    ),
-  );
+        deps.logStream,
+      ),
+    );
+  }
   // Everything the client needs is shipped with it: scripts, fonts and workers come from our own
   // origin only. Naive UI sets styles at run time (hence inline styles); pdf.js may compile
   // WebAssembly decoders; canvases and previews use blob: and data: images.
