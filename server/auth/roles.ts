@@ -8,6 +8,8 @@ import { forbidden, notFound, unauthenticated } from '../http/errors';
 export interface ProjectAccess {
   project: ProjectRow;
   role: ProjectRole;
+  /** The model's revision as the access was checked (null only before a model exists). */
+  modelRevision: number | null;
 }
 
 export const anyMember: ProjectRole[] = ['owner', 'editor', 'checker', 'viewer'];

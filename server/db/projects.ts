@@ -1,7 +1,14 @@
 import { and, asc, desc, eq, sql } from 'drizzle-orm';
 import type { Db } from './client';
 import type { DbOrTx } from './models';
-import { memberships, projects, users, type MembershipRow, type ProjectRow } from './schema';
+import {
+  memberships,
+  projectModels,
+  projects,
+  users,
+  type MembershipRow,
+  type ProjectRow,
+} from './schema';
 
 export type Role = MembershipRow['role'];
 
@@ -14,13 +21,33 @@ export async function listProjectsOfUser(db: Db, userId: string) {
     .orderBy(desc(projects.updatedAt));
 }
 
+/**
+ * The signed-in user's membership of a project, with the project and its model's revision.
+ * Asked before every project request, so the statement is built once per database handle and
+ * prepared once per connection rather than rebuilt and re-planned on every call.
+ */
 export async function findMembership(db: Db, projectId: string, userId: string) {
-  const [row] = await db
-    .select({ project: projects, role: memberships.role })
+  let query = membershipQueries.get(db);
+  if (!query) membershipQueries.set(db, (query = prepareMembershipQuery(db)));
+  const [row] = await query.execute({ projectId, userId });
+  return row;
+}
+
+const membershipQueries = new WeakMap<Db, ReturnType<typeof prepareMembershipQuery>>();
+
+function prepareMembershipQuery(db: Db) {
+  return db
+    .select({ project: projects, role: memberships.role, modelRevision: projectModels.revision })
     .from(memberships)
     .innerJoin(projects, eq(projects.id, memberships.projectId))
-    .where(and(eq(memberships.projectId, projectId), eq(memberships.userId, userId)));
-  return row;
+    .leftJoin(projectModels, eq(projectModels.projectId, memberships.projectId))
+    .where(
+      and(
+        eq(memberships.projectId, sql.placeholder('projectId')),
+        eq(memberships.userId, sql.placeholder('userId')),
+      ),
+    )
+    .prepare('find_membership');
 }
 
 /** Inserts a project with its owner; call inside the service's transaction. */

@@ -15,16 +15,20 @@ export function modelRoutes(db: Db, models: ModelService): Router {
   const writers = requireProjectRole(db, editors);
 
   router.get('/:projectId/model', params, readers, async (req, res) => {
-    const { etag, body, gzipped } = await models.currentJson(access(res.locals).project.id);
-    // Revalidated on every use (the revision may move), but unchanged models cost one small query.
+    const { project, modelRevision } = access(res.locals);
+    const { etag, body, ...packed } = await models.currentJson(project.id, modelRevision);
+    // Revalidated on every use (the revision may move); an unchanged model costs no query beyond
+    // the access check, which read the revision.
     res.set({ ETag: etag, 'Cache-Control': 'private, no-cache', Vary: 'Accept-Encoding' });
     if (req.get('if-none-match') === etag) {
       res.status(304).end();
       return;
     }
     res.type('application/json');
-    if (req.acceptsEncodings('gzip', 'identity') === 'gzip') {
-      res.set('Content-Encoding', 'gzip').send(gzipped);
+    // The smallest the client takes (browsers list gzip first but take brotli as well).
+    const encoding = (['br', 'gzip'] as const).find((e) => req.acceptsEncodings(e) === e);
+    if (encoding) {
+      res.set('Content-Encoding', encoding).send(packed[encoding]);
     } else {
       res.send(body);
     }

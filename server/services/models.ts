@@ -6,8 +6,10 @@ import {
   summariseDiff,
   type FairsheetModel,
   type SolveResult,
+  type ValueResult,
 } from '@shared/engine';
-import { gzipSync } from 'node:zlib';
+import { promisify } from 'node:util';
+import { brotliCompress, constants as zlib, gzip } from 'node:zlib';
 import { emptyModel } from '@shared/api';
 import type { Db } from '../db/client';
 import * as repo from '../db/models';
@@ -17,22 +19,32 @@ import type { ActivityService } from './activity';
 /** Server solves have a time cap so one pathological model cannot hold a request. */
 const solveOptions = { timeLimitMs: 2000 };
 
-/** A result without the per-value traces and contributors (which grow with chain length). */
+/**
+ * A save's answer: each value with its stack-up, without the traces and contributors (which grow
+ * with chain length and which the browser works out itself).
+ */
 function slimResult(result: SolveResult) {
-  const values: Record<
-    string,
-    Pick<SolveResult['values'][string], 'value' | 'worstCase' | 'rss' | 'kind' | 'quantity'>
-  > = {};
+  const values: Record<string, Omit<ValueResult, 'from' | 'contributors' | 'trace'>> = {};
   for (const [name, v] of Object.entries(result.values)) {
-    values[name] = {
-      value: v.value,
-      worstCase: v.worstCase,
-      rss: v.rss,
-      kind: v.kind,
-      quantity: v.quantity,
-    };
+    const { from: _from, contributors: _contributors, trace: _trace, ...slim } = v;
+    values[name] = slim;
   }
   return { ...result, values };
+}
+
+/** The server's verdict on a stored model (status, contradictions, checks, needs), no values. */
+function verdictOf(result: SolveResult) {
+  const { values: _values, ...verdict } = result;
+  return verdict;
+}
+
+/** The body in both encodings browsers ask for; brotli at a quality that takes milliseconds. */
+async function compress(body: string) {
+  const [gzipped, br] = await Promise.all([
+    promisify(gzip)(body),
+    promisify(brotliCompress)(body, { params: { [zlib.BROTLI_PARAM_QUALITY]: 5 } }),
+  ]);
+  return { gzip: gzipped, br };
 }
 
 export interface StoredModel {
@@ -75,36 +87,35 @@ export function createModelService(db: Db, activity?: ActivityService) {
     };
   }
 
-  /**
-   * Saves a model based on `baseRevision` in one transaction: refused with 409 (and the current
-   * revision and model) when someone saved first; otherwise solved, diffed and written with a
-   * history entry. Saving an unchanged model writes nothing and answers the same revision.
-   */
   // The serialised answer of each project's current revision. Keyed by the revision read from
   // the database, so another instance's save is never hidden; a small bound keeps memory flat.
   const cachedJson = new Map<
     string,
-    { revision: number; etag: string; body: string; gzipped: Buffer }
+    { revision: number; etag: string; body: string; gzip: Buffer; br: Buffer }
   >();
   const cacheLimit = 200;
 
-  /** The current model as JSON text (and gzipped) with an ETag, serialised once per revision. */
-  async function currentJson(projectId: string) {
-    const revision = await repo.findModelRevision(db, projectId);
-    if (revision === undefined) throw notFound('The model');
+  /**
+   * The current model as JSON text (and gzipped) with an ETag, serialised once per revision.
+   * `knownRevision`: the revision the caller has just read (the access check does), to save a query.
+   */
+  async function currentJson(projectId: string, knownRevision?: number | null) {
+    const revision = knownRevision ?? (await repo.findModelRevision(db, projectId));
+    if (revision === undefined || revision === null) throw notFound('The model');
     const hit = cachedJson.get(projectId);
     if (hit && hit.revision === revision) return hit;
     const stored = await current(projectId);
-    // The browser solves the model itself (traces, contributors, stack-up charts); the answer
-    // carries the server's verdict and values only, which keeps a 2,000-dimension model small.
-    const body = JSON.stringify({ ...stored, result: stored.result && slimResult(stored.result) });
+    // The browser solves the model itself (values, traces, stack-up charts); the answer carries
+    // the server's verdict only, which keeps a 2,000-dimension model small.
+    const body = JSON.stringify({ ...stored, result: stored.result && verdictOf(stored.result) });
     const entry = {
       revision: stored.revision,
       etag: `"m${stored.revision}-${stored.updatedAt}"`,
       body,
-      // Compressed once here rather than per request: a 2,000-dimension answer of ~430 kB is
-      // ~10× smaller, and compressing it costs milliseconds the busy route should not repeat.
-      gzipped: gzipSync(body),
+      // Compressed once here rather than per request (off the event loop): a 2,000-dimension
+      // answer of ~240 kB is ~25 kB gzipped and ~10 kB in brotli, and compressing it costs
+      // milliseconds the busy route should not repeat.
+      ...(await compress(body)),
     };
     cachedJson.delete(projectId);
     cachedJson.set(projectId, entry);
@@ -112,13 +123,18 @@ export function createModelService(db: Db, activity?: ActivityService) {
     return entry;
   }
 
+  /**
+   * Saves a model based on `baseRevision` in one transaction: refused with 409 (and the current
+   * revision and model) when someone saved first; otherwise solved, diffed and written with a
+   * history entry. Saving an unchanged model writes nothing and answers the same revision.
+   */
   async function save(
     projectId: string,
     userId: string,
     baseRevision: number,
     model: FairsheetModel,
     note?: string,
-  ): Promise<{ revision: number; result: SolveResult; summary: string }> {
+  ): Promise<{ revision: number; result: ReturnType<typeof slimResult>; summary: string }> {
     return db.transaction(async (tx) => {
       const locked = await repo.lockModel(tx, projectId);
       if (!locked) throw notFound('The model');
@@ -132,7 +148,7 @@ export function createModelService(db: Db, activity?: ActivityService) {
       const diff = diffModels(previous, model);
       const result = solveModel(model, solveOptions);
       if (isEmptyDiff(diff) && !note)
-        return { revision: locked.revision, result, summary: 'no change' };
+        return { revision: locked.revision, result: slimResult(result), summary: 'no change' };
       const revision = locked.revision + 1;
       const summary = note ? `${note} (${summariseDiff(diff)})` : summariseDiff(diff);
       await repo.writeModel(tx, projectId, { revision, model, result, userId });
@@ -147,7 +163,7 @@ export function createModelService(db: Db, activity?: ActivityService) {
         },
         tx,
       );
-      return { revision, result, summary };
+      return { revision, result: slimResult(result), summary };
     });
   }
 

@@ -4,20 +4,25 @@ import type {
   ModelDiff,
   SolveResult,
   ValueMove,
+  ValueResult,
 } from '@shared/engine';
 import { request } from './client';
 
 export interface StoredModel {
   revision: number;
   model: FairsheetModel;
-  result: SolveResult | null;
+  /** The server's verdict on the stored model; the browser solves for the values itself. */
+  result: Omit<SolveResult, 'values'> | null;
   updatedAt: string;
   updatedBy: string | null;
 }
 
 export interface SaveAnswer {
   revision: number;
-  result: SolveResult;
+  /** The server's solve of the saved model: each value with its stack-up, without traces. */
+  result: Omit<SolveResult, 'values'> & {
+    values: Record<string, Omit<ValueResult, 'from' | 'contributors' | 'trace'>>;
+  };
   summary: string;
 }
 

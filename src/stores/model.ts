@@ -51,7 +51,6 @@ export const useModelStore = defineStore('model', () => {
     relations: [],
   });
   const result = shallowRef<SolveResult | null>(null);
-  const serverResult = shallowRef<SolveResult | null>(null);
   const lastSolveMs = ref(0);
   const selected = ref<string | null>(null);
   const edits = ref(0);
@@ -89,7 +88,6 @@ export const useModelStore = defineStore('model', () => {
       revision.value = stored.revision;
       base.value = stored.model;
       model.value = clone(stored.model);
-      serverResult.value = stored.result;
       updatedBy.value = stored.updatedBy;
       edits.value = 0;
       conflict.value = null;
@@ -187,7 +185,6 @@ export const useModelStore = defineStore('model', () => {
       const answer = await modelsApi.save(projectId.value, revision.value, sent, note);
       revision.value = answer.revision;
       base.value = sent;
-      serverResult.value = answer.result;
       updatedBy.value = useSessionStore().user?.name ?? updatedBy.value;
       // Edits typed while the save was in flight stay unsaved.
       edits.value -= editsAtSend;
@@ -237,7 +234,6 @@ export const useModelStore = defineStore('model', () => {
     revision,
     model,
     result,
-    serverResult,
     lastSolveMs,
     selected,
     updatedBy,

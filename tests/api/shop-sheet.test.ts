@@ -62,7 +62,8 @@ describe('GET /api/projects/:projectId/shop-sheet (JSON for the print view)', ()
     expect(fwd.provenance).toBe('derived (stated)');
     // The row's tolerance is the solver's worst case of the frame's own derived dimension.
     const stored = await builder.get(`/api/projects/${projectId}/model`).expect(200);
-    const wc = stored.body.result.values.horn1_bolt_fwd_x.worstCase as number;
+    const solved = await builder.post('/api/solve', { model: stored.body.model }).expect(200);
+    const wc = solved.body.values.horn1_bolt_fwd_x.worstCase as number;
     expect(fwd.tolerance).toBe(`±${wc.toFixed(4)}`);
   });
 });
