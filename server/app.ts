@@ -95,6 +95,8 @@ export function createApp(deps: AppDeps): Express {
                 .replace(/([?&]token=)[^&]+/, '$1[hidden]')
                 .replace(/(\/invitations\/)[\w-]{20,}/, '$1[hidden]'),
             }),
+            // The status is what a request log needs; the headers are the same on every line.
+            res: (res: { statusCode: number }) => ({ statusCode: res.statusCode }),
           },
           autoLogging: { ignore: (req) => req.url === '/api/health' },
         },

@@ -52,6 +52,8 @@ describe('request logs', () => {
     expect(lines.length).toBeGreaterThanOrEqual(5);
     for (const line of lines) expect(() => JSON.parse(line)).not.toThrow();
     expect(logged).toContain('/api/auth/register');
+    const registered = lines.map((l) => JSON.parse(l)).find((l) => l.req?.method === 'POST');
+    expect(registered.res).toEqual({ statusCode: 201 });
     expect(logged).not.toContain(password);
     expect(logged).not.toContain(csrf);
     expect(logged).not.toContain(token);
