@@ -84,7 +84,12 @@ export async function inspectFile(
   pages.forEach((p, i) => {
     const pixels = p.widthPx * p.heightPx;
     if (pixels > limits.maxPixels) {
-      const what = pages.length > 1 ? `Page ${i + 1} at ${pdfFrameDpi} dpi` : 'The image';
+      const what =
+        mimeType !== 'application/pdf'
+          ? 'The image'
+          : pages.length > 1
+            ? `Page ${i + 1} at ${pdfFrameDpi} dpi`
+            : `The page at ${pdfFrameDpi} dpi`;
       throw new InspectionError(
         'too-many-pixels',
         `${what} is ${Math.round(p.widthPx)} × ${Math.round(p.heightPx)} px ` +

@@ -347,6 +347,7 @@ describe('sizes meant to exhaust memory', () => {
         problem: 'too-many-pixels',
       });
       expect(error.details).toMatchObject({ widthPx: 50_000, heightPx: 50_000 });
+      expect(error.message).toContain(name.endsWith('.pdf') ? 'The page at 150 dpi' : 'The image');
     }
   });
 

@@ -97,7 +97,9 @@ describe('parts, the part drawing and the shop sheet, in a real browser', () => 
     await page.getByTestId('shop-sheet-group').first().waitFor();
     expect(await page.getByTestId('shop-sheet-group').count()).toBe(5);
     // The demo's voided check shows first; the frames are not checked as a whole.
-    expect(await page.getByTestId('checked-by').first().innerText()).toMatch(/CHECK VOID on 2 of \d+ positions — NOT CHECKED/);
+    expect(await page.getByTestId('checked-by').first().innerText()).toMatch(
+      /CHECK VOID on 2 of \d+ positions — NOT CHECKED/,
+    );
     expect(await page.getByTestId('pressure-box').innerText()).toMatch(/boiler code/);
     // The true-scale bar is 100 mm wide at 96 CSS px per inch: 377.95 px.
     const bar = await page.locator('.bar.mm').first().boundingBox();

@@ -39,7 +39,8 @@ export function parseToleranceText(
 export function nameProblem(name: string, taken: string[]): string | null {
   if (!DIMENSION_NAME.test(name))
     return 'A name starts with a letter or _ and has only letters, digits and _';
-  if (RESERVED_NAMES.has(name)) return `“${name}” is a function or constant name`;
+  if (RESERVED_NAMES.has(name))
+    return `“${name}” is reserved (relations read it as a unit, function or constant)`;
   if (taken.includes(name)) return `“${name}” is already used`;
   return null;
 }
