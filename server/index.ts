@@ -88,19 +88,29 @@ export async function startServer(env: Env, databaseUrl: string): Promise<Runnin
         );
       }
       await sink?.close();
-      await database.pool.end();
+      // pool.end() waits for every client in use; a request cut off while it waits on a lock
+      // would otherwise hold the process up for good.
+      await Promise.race([
+        database.pool.end(),
+        new Promise<void>((resolve) => setTimeout(resolve, 5000).unref()),
+      ]);
     },
   };
 }
 
 /**
  * SIGTERM and SIGINT (Ctrl-C) stop the server gracefully, then run `after` (stopping the private
- * cluster), then end the process: 0 when everything closed cleanly.
+ * cluster), then end the process: 0 when everything closed cleanly. A second signal does not
+ * wait: it runs `after` and exits 1.
  */
 export function stopOnSignals(server: RunningServer, after?: () => void) {
   let stopping = false;
   const stop = async (signal: string) => {
-    if (stopping) return;
+    if (stopping) {
+      console.log(`\n[fairsheet] ${signal} again: stopping at once`);
+      after?.();
+      process.exit(1);
+    }
     stopping = true;
     console.log(`\n[fairsheet] ${signal}: stopping …`);
     let code = 0;

@@ -12,9 +12,9 @@ export interface GracefulServer {
 
 /**
  * An HTTP server for the app that can stop without cutting anyone off. A request counts from
- * its arrival until the app has ended (or destroyed) its response, even when the client went
- * away meanwhile: its handler may still be using the database, which the caller closes only
- * after `shutdown` resolves.
+ * its arrival until the app has ended (or destroyed) its response or its connection has closed.
+ * A handler whose client went away may still be using the database: the caller's pool.end(),
+ * after `shutdown` resolves, waits for the clients it holds.
  */
 export function createGracefulServer(app: RequestListener): GracefulServer {
   const open = new Set<ServerResponse>();
@@ -38,6 +38,9 @@ export function createGracefulServer(app: RequestListener): GracefulServer {
     // Wrapped before the app sees the response, so express-session's own wrapper (which writes
     // the session, then ends) ends inside this one.
     const { end, destroy } = res;
+    // A download the client gave up (a piped static file, an export) is neither ended nor
+    // destroyed by its handler: the closed connection settles it.
+    res.once('close', settle);
     res.end = function (this: ServerResponse, ...args: unknown[]) {
       settle();
       return (end as (...a: unknown[]) => ServerResponse).apply(this, args);
