@@ -54,7 +54,7 @@ const unavailableMessages = [
  * errors: a host name resolving to several addresses) means the database cannot be reached.
  */
 export function isDatabaseUnavailable(err: unknown, depth = 0): boolean {
-  if (!err || typeof err !== 'object' || depth > 4) return false;
+  if (!err || typeof err !== 'object' || depth > 4 || isStorageServiceError(err)) return false;
   const { code, message, cause, errors } = err as {
     code?: unknown;
     message?: unknown;
@@ -67,6 +67,24 @@ export function isDatabaseUnavailable(err: unknown, depth = 0): boolean {
     return true;
   if (Array.isArray(errors) && errors.some((e) => isDatabaseUnavailable(e, depth + 1))) return true;
   return isDatabaseUnavailable(cause, depth + 1);
+}
+
+/** The S3 client's errors carry `$metadata` (attempts, HTTP status), whatever went wrong. */
+function isStorageServiceError(err: object): boolean {
+  return '$metadata' in err;
+}
+
+/** The bucket could not be reached, or answered that it cannot serve now (5xx, throttling). */
+export function isStorageUnavailable(err: unknown): boolean {
+  if (!err || typeof err !== 'object' || !isStorageServiceError(err)) return false;
+  const { code, $metadata } = err as { code?: unknown; $metadata?: { httpStatusCode?: number } };
+  const status = $metadata?.httpStatusCode;
+  return (
+    (typeof code === 'string' && unavailableCodes.has(code)) ||
+    status === undefined ||
+    status === 429 ||
+    status >= 500
+  );
 }
 
 const requestErrorCodes: Partial<Record<number, ErrorCode>> = {
@@ -84,6 +102,7 @@ export function errorHandler(options: { production: boolean }): ErrorRequestHand
       // Too late to answer: a session store write after the answer (express-session saves and
       // touches the session as the response ends), or a stream that failed half way. A finished
       // answer stands; an unfinished one is cut so the client cannot take it for whole.
+      // (A database gone away is reported by the requests that meet it, not once per answer.)
       if (!isDatabaseUnavailable(err))
         console.error('[server] error after the answer:', options.production ? err?.message : err);
       if (!res.writableEnded) res.destroy();
@@ -135,6 +154,19 @@ export function errorHandler(options: { production: boolean }): ErrorRequestHand
           error: {
             code: 'unavailable',
             message: 'The database is not answering. Try again in a moment.',
+          },
+        });
+      return;
+    }
+    if (isStorageUnavailable(err)) {
+      console.error('[server] file storage not answering:', err?.message);
+      res
+        .status(503)
+        .set('Retry-After', '5')
+        .json({
+          error: {
+            code: 'unavailable',
+            message: 'The file storage is not answering. Try again in a moment.',
           },
         });
       return;

@@ -5,7 +5,12 @@ import pg from 'pg';
 import request from 'supertest';
 import { afterEach, describe, expect, it, vi } from 'vitest';
 import { connect } from '../../../../server/db/client';
-import { errorHandler, isDatabaseUnavailable } from '../../../../server/http/errors';
+import {
+  errorHandler,
+  isDatabaseUnavailable,
+  isStorageUnavailable,
+} from '../../../../server/http/errors';
+import { createS3Storage } from '../../../../server/storage';
 import { freePort } from '../../../helpers/net';
 
 /** The error node-postgres raises when connecting to `port` fails. */
@@ -178,4 +183,44 @@ describe('errorHandler', () => {
     expect(res.body).toEqual({ whole: true });
     expect(logged).toEqual([['[server] error after the answer:', 'after the answer was sent']]);
   });
+});
+
+describe('a file storage that cannot be reached', () => {
+  /** The error the real S3 client raises, after its retries, when nothing listens. */
+  async function bucketError(): Promise<Error> {
+    const storage = createS3Storage({
+      bucket: 'absent',
+      endpoint: `http://127.0.0.1:${await freePort()}`,
+      region: 'us-east-1',
+      credentials: { accessKeyId: 'x', secretAccessKey: 'y' },
+      forcePathStyle: true,
+    });
+    return storage.exists('0'.repeat(64)).then(
+      () => {
+        throw new Error('the bucket answered');
+      },
+      (err: Error) => err,
+    );
+  }
+
+  it('is told from a database outage, and answers 503 naming the file storage', async () => {
+    const err = await bucketError();
+    expect(isDatabaseUnavailable(err)).toBe(false);
+    expect(isStorageUnavailable(err)).toBe(true);
+    const logged: unknown[][] = [];
+    vi.spyOn(console, 'error').mockImplementation((...args) => logged.push(args));
+    const app = express();
+    app.get('/file', () => {
+      throw err;
+    });
+    app.use(errorHandler({ production: true }));
+    const res = await request(app).get('/file');
+    expect(res.status).toBe(503);
+    expect(res.headers['retry-after']).toBe('5');
+    expect(res.body.error).toEqual({
+      code: 'unavailable',
+      message: 'The file storage is not answering. Try again in a moment.',
+    });
+    expect(logged[0][0]).toBe('[server] file storage not answering:');
+  }, 60_000);
 });
