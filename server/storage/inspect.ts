@@ -269,8 +269,9 @@ const pdfTimeoutMs = 60_000;
 
 /**
  * pdf.js on one worker thread (pdf-worker.mjs), started on first use and kept for the next.
- * Requests are answered in turn; a thread that dies or hangs fails its requests and is
- * replaced on the next one.
+ * The thread works on its requests together; one that dies, or that leaves a request
+ * unanswered for a minute (stuck in pdf.js, so stuck for all), fails the requests it holds and
+ * is replaced on the next one.
  */
 const pdfReader = (() => {
   let worker: Worker | undefined;
@@ -295,7 +296,9 @@ const pdfReader = (() => {
       // An idle thread does not keep the process alive.
       if (!pending.size) w.unref();
     });
-    w.on('error', (err) => failAll(unreadable(`The PDF cannot be opened: ${err.message}`)));
+    w.on('error', (err) => {
+      if (worker === w) failAll(unreadable(`The PDF cannot be opened: ${err.message}`));
+    });
     w.on('exit', () => {
       if (worker === w) failAll(unreadable('The PDF reader stopped before it answered.'));
     });

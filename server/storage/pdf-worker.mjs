@@ -10,16 +10,17 @@ import { getDocument } from 'pdfjs-dist/legacy/build/pdf.mjs';
  * @returns {Promise<{ pages: { widthPx: number, heightPx: number }[] } | { problem: string, message: string, details?: object }>}
  */
 async function pageSizes({ data, scale, maxPages }) {
-  const task = getDocument({
-    data,
-    stopAtErrors: true,
-    isEvalSupported: false,
-    enableXfa: false,
-    disableFontFace: true,
-    useSystemFonts: false,
-    verbosity: 0,
-  });
+  let task;
   try {
+    task = getDocument({
+      data,
+      stopAtErrors: true,
+      isEvalSupported: false,
+      enableXfa: false,
+      disableFontFace: true,
+      useSystemFonts: false,
+      verbosity: 0,
+    });
     const doc = await task.promise;
     if (doc.numPages > maxPages) {
       return {
@@ -41,7 +42,8 @@ async function pageSizes({ data, scale, maxPages }) {
   } catch (err) {
     return { problem: 'unreadable', message: `The PDF cannot be opened: ${err?.message ?? err}` };
   } finally {
-    await task.destroy();
+    // A failure to clean up must not end the thread (and every request on it).
+    await task?.destroy().catch(() => {});
   }
 }
 
