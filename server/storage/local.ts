@@ -67,7 +67,8 @@ export function createLocalStorage(root: string): BlobStorage {
     try {
       if (await exists(sha256)) return { sha256, sizeBytes, created: false };
       const target = fileOf(sha256);
-      await mkdir(path.dirname(target), { recursive: true });
+      // A fan-out folder made just now is itself a new name in the root: made durable too.
+      if (await mkdir(path.dirname(target), { recursive: true })) await syncFolder(base);
       // rename is atomic within one file system; two writers of the same content both win.
       await rename(tmp, target);
       // The file's bytes were synced before the rename; syncing the folder makes the new name
