@@ -91,9 +91,12 @@ describe('deleting a sheet when the blob removal dies half way', () => {
     const sheet = await uploadPng(bytes);
     vi.spyOn(console, 'error').mockImplementation(() => {});
     dieAfterDelete = true;
-    await c.delete(url(`/sheets/${sheet.id}`)).expect(204);
-    dieAfterDelete = false;
-    vi.restoreAllMocks();
+    try {
+      await c.delete(url(`/sheets/${sheet.id}`)).expect(204);
+    } finally {
+      dieAfterDelete = false;
+      vi.restoreAllMocks();
+    }
     expect(await fileRows(sheet.file.sha256)).toBe(1);
     const sheets = createSheetService({ db: t.database.db, storage });
     expect(await sheets.removeUnusedFiles()).toBe(1);

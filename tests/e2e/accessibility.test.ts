@@ -88,8 +88,15 @@ interface MainPage {
 const modal = (button: string) => async (page: Page) => {
   await page.getByRole('button', { name: button, exact: true }).click();
   await page.locator('[role=dialog]').waitFor();
-  // Let the opening transition finish, so colours are measured as they end up.
-  await page.waitForTimeout(400);
+  // Let the opening transition finish (endless ones, such as a spinner, aside), so colours are
+  // measured as they end up.
+  await page.waitForFunction(() =>
+    document
+      .getAnimations()
+      .every(
+        (a) => a.playState !== 'running' || a.effect?.getComputedTiming().endTime === Infinity,
+      ),
+  );
   return '[role=dialog]';
 };
 

@@ -187,7 +187,11 @@ describe('the database stops and starts again while the app runs', { timeout: 12
         try {
           const read = await c.request<{ revision: number }>('GET', url('/model'));
           statuses.push(read.status);
-          if (read.status !== 200) continue;
+          if (read.status !== 200) {
+            // A 503 comes back at once: pause as a client would, not spin on two cores.
+            await new Promise((r) => setTimeout(r, 50));
+            continue;
+          }
           const saved = await c.request('PUT', url('/model'), {
             revision: read.body.revision,
             model: model([i, read.body.revision]),
