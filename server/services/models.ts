@@ -47,6 +47,14 @@ async function compress(body: string) {
   return { gzip: gzipped, br };
 }
 
+/** GET /model's answer, ready to send in each encoding. */
+interface ModelAnswer {
+  etag: string;
+  body: string;
+  gzip: Buffer;
+  br: Buffer;
+}
+
 export interface StoredModel {
   revision: number;
   model: FairsheetModel;
@@ -89,27 +97,36 @@ export function createModelService(db: Db, activity?: ActivityService) {
 
   // The serialised answer of each project's current revision. Keyed by the revision read from
   // the database, so another instance's save is never hidden; a small bound keeps memory flat.
-  const cachedJson = new Map<
-    string,
-    { revision: number; etag: string; body: string; gzip: Buffer; br: Buffer }
-  >();
+  // The promise is kept, so requests arriving while an answer is made share that one.
+  const cachedJson = new Map<string, { revision: number; answer: Promise<ModelAnswer> }>();
   const cacheLimit = 200;
 
   /**
-   * The current model as JSON text (and gzipped) with an ETag, serialised once per revision.
-   * `knownRevision`: the revision the caller has just read (the access check does), to save a query.
+   * The current model as JSON text, gzipped and in brotli, with an ETag, made once per
+   * revision. `knownRevision`: the revision the caller has just read (the access check does),
+   * to save a query.
    */
   async function currentJson(projectId: string, knownRevision?: number | null) {
     const revision = knownRevision ?? (await repo.findModelRevision(db, projectId));
     if (revision === undefined || revision === null) throw notFound('The model');
     const hit = cachedJson.get(projectId);
-    if (hit && hit.revision === revision) return hit;
+    if (hit && hit.revision === revision) return hit.answer;
+    const answer = modelAnswer(projectId);
+    cachedJson.delete(projectId);
+    cachedJson.set(projectId, { revision, answer });
+    if (cachedJson.size > cacheLimit) cachedJson.delete(cachedJson.keys().next().value!);
+    answer.catch(() => {
+      if (cachedJson.get(projectId)?.answer === answer) cachedJson.delete(projectId);
+    });
+    return answer;
+  }
+
+  async function modelAnswer(projectId: string): Promise<ModelAnswer> {
     const stored = await current(projectId);
     // The browser solves the model itself (values, traces, stack-up charts); the answer carries
     // the server's verdict only, which keeps a 2,000-dimension model small.
     const body = JSON.stringify({ ...stored, result: stored.result && verdictOf(stored.result) });
-    const entry = {
-      revision: stored.revision,
+    return {
       etag: `"m${stored.revision}-${stored.updatedAt}"`,
       body,
       // Compressed once here rather than per request (off the event loop): a 2,000-dimension
@@ -117,10 +134,6 @@ export function createModelService(db: Db, activity?: ActivityService) {
       // milliseconds the busy route should not repeat.
       ...(await compress(body)),
     };
-    cachedJson.delete(projectId);
-    cachedJson.set(projectId, entry);
-    if (cachedJson.size > cacheLimit) cachedJson.delete(cachedJson.keys().next().value!);
-    return entry;
   }
 
   /**
