@@ -14,7 +14,9 @@ import type { App } from 'vue';
  * - a sortable table heading sorts on click only: it takes focus, and Enter or Space sorts;
  * - a card's title is marked role="heading" twice and without a level: it becomes one level-2
  *   heading, which also names the dialog it heads.
- * Only attributes the library leaves unset are written, so its own re-renders keep them.
+ * Names are written only where the library left none; roles, states and the step buttons' and
+ * eye's names are set outright, as the library sets none of its own there. Its re-renders keep
+ * them, and the observer below sets them again on the elements it makes anew.
  */
 let counter = 0;
 const idOf = (el: Element) => (el.id ||= `fs-a11y-${++counter}`);
