@@ -7,23 +7,16 @@
 // (e.g. `--cpu-prof --cpu-prof-dir=/tmp/prof` to see where its time goes).
 import { spawn } from 'node:child_process';
 import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
-import { createServer } from 'node:net';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import autocannon from 'autocannon';
 import { kestrelModel } from '../server/demo/kestrel-model';
 import { demoBuilder, demoPassword } from '../server/demo/seed';
+import { freePort } from '../tests/helpers/net';
 import { projectRoot } from './lib/build';
+import { cpuMs } from './lib/measure';
 
 const seconds = Number(process.env.BENCH_SECONDS ?? 20);
-
-const freePort = () =>
-  new Promise<number>((resolve) => {
-    const s = createServer().listen(0, '127.0.0.1', () => {
-      const { port } = s.address() as { port: number };
-      s.close(() => resolve(port));
-    });
-  });
 
 function generatedModel(n: number) {
   const dimensions: object[] = [];
@@ -44,12 +37,6 @@ function generatedModel(n: number) {
     });
   }
   return { format: 'fairsheet.model', version: 1, units: 'in', dimensions, relations };
-}
-
-/** User + system CPU time the process has used, ms (from /proc, clock ticks of 10 ms). */
-function cpuMs(pid: number): number {
-  const fields = readFileSync(`/proc/${pid}/stat`, 'utf8').split(') ')[1].split(' ');
-  return (Number(fields[11]) + Number(fields[12])) * 10;
 }
 
 /** CPU time all cores have spent busy since boot, ms (from /proc/stat). */
