@@ -40,6 +40,9 @@ export function receiveFiles(options: UploadOptions): RequestHandler {
     limits: { fileSize: options.maxBytes, files: maxFiles, fields: 20, parts: maxFiles + 20 },
     // Browsers send file names as raw UTF-8.
     defParamCharset: 'utf8',
+    // The name as sent, path and all: sanitiseFileName keeps its last part. The parser's own
+    // trimming would turn a file named “../..” into a nameless part and drop the file unseen.
+    preservePath: true,
   }).array('file', maxFiles);
   return (req, res, next) => {
     upload(req, res, (err?: unknown) => {
