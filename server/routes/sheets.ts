@@ -10,7 +10,7 @@ import type { Db } from '../db/client';
 import { AppError, badRequest } from '../http/errors';
 import { validate } from '../http/validate';
 import type { SheetService } from '../services/sheets';
-import { sanitiseFileName } from '../storage/file-name';
+import { downloadName, sanitiseFileName } from '../storage/file-name';
 
 export interface UploadOptions {
   /** Largest accepted file, bytes. */
@@ -146,7 +146,7 @@ export function sheetRoutes(db: Db, sheets: SheetService, uploads: UploadOptions
       // JavaScript included) runs with the app's origin. A PDF is also a download, not a page.
       'Content-Security-Policy': 'sandbox',
       'Cross-Origin-Resource-Policy': 'same-origin',
-      'Content-Disposition': contentDisposition(file.originalName, {
+      'Content-Disposition': contentDisposition(downloadName(file.originalName, file.mimeType), {
         type: isPdf ? 'attachment' : 'inline',
       }),
     });

@@ -1,3 +1,5 @@
+import mime from 'mime-types';
+
 /** Longest original name kept, in characters (the extension is kept whole when it is short). */
 export const maxFileNameLength = 120;
 
@@ -37,4 +39,16 @@ export function sanitiseFileName(raw: string, fallback = 'untitled'): string {
 export function fileStem(name: string): string {
   const dot = name.lastIndexOf('.');
   return dot > 0 ? name.slice(0, dot) : name;
+}
+
+/**
+ * The name to hand a file back under: its kept name, with the extension of what the bytes are
+ * when the name says otherwise, so the builder's computer opens it with the right program.
+ *
+ * @example downloadName('drawing.pdf', 'image/png') // 'drawing.png'
+ */
+export function downloadName(name: string, mimeType: string): string {
+  if (mime.lookup(name) === mimeType) return name;
+  const ext = mime.extension(mimeType);
+  return ext ? `${fileStem(name)}.${ext}` : name;
 }

@@ -154,6 +154,7 @@ describe('bytes that disagree with the name and the Content-Type', () => {
     expect(file.status).toBe(200);
     expect(file.headers['content-type']).toBe('image/png');
     expect(file.headers['x-content-type-options']).toBe('nosniff');
+    expect(file.headers['content-disposition']).toBe('inline; filename=drawing.png');
     expect(Buffer.compare(file.body as Buffer, png)).toBe(0);
   });
 
@@ -165,7 +166,8 @@ describe('bytes that disagree with the name and the Content-Type', () => {
     expect(sheet.file.mimeType).toBe('application/pdf');
     const file = await editor.get(url(`/sheets/${sheet.id}/file`));
     expect(file.headers['content-type']).toBe('application/pdf');
-    expect(file.headers['content-disposition']).toBe('attachment; filename=photo.jpg');
+    // The kept name stays as sent; the download is named for what it is.
+    expect(file.headers['content-disposition']).toBe('attachment; filename=photo.pdf');
   });
 
   it('JPEG bytes named scan.tif and sent as text/plain are a photo, by their bytes', async () => {
