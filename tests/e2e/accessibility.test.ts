@@ -297,6 +297,79 @@ describe('the sheet canvas from the keyboard', () => {
       await page.close();
     },
   );
+
+  it(
+    'with the pin tool, a crosshair shows the keyboard where Enter places a pin; Shift+arrows aim in small steps; Delete takes the pin off',
+    { timeout: 60_000 },
+    async () => {
+      const page = await open(pages.find((p) => p.name === 'a sheet')!);
+      const canvas = page.getByTestId('sheet-canvas');
+      const crosshair = page.locator('.sheet-canvas-crosshair');
+      const stored = () =>
+        page.evaluate(
+          async ([project, sheet]) =>
+            (await (await fetch(`/api/projects/${project}/sheets/${sheet}`)).json()).pins as {
+              id: string;
+              x: number;
+              y: number;
+            }[],
+          [ids.project, ids.sheet] as const,
+        );
+      const before = await stored();
+      const added = async () => {
+        const known = new Set(before.map((p) => p.id));
+        return (await stored()).filter((p) => !known.has(p.id));
+      };
+
+      // The tool by keyboard, then Tab on to the canvas.
+      const tool = page.getByTestId('tool-pin');
+      await tool.focus();
+      await page.keyboard.press('Enter');
+      expect(await tool.getAttribute('aria-pressed')).toBe('true');
+      for (
+        let i = 0;
+        i < 30 && !(await canvas.evaluate((el) => el === document.activeElement));
+        i++
+      ) {
+        await page.keyboard.press('Tab');
+      }
+      expect(await canvas.evaluate((el) => el === document.activeElement)).toBe(true);
+      expect(await canvas.getAttribute('aria-label')).toMatch(/Enter places a point/);
+      expect(await crosshair.isVisible()).toBe(true);
+      const box = (await canvas.boundingBox())!;
+      const mark = (await crosshair.boundingBox())!;
+      // In the middle, to the pixel.
+      expect(Math.abs(mark.x + mark.width / 2 - (box.x + box.width / 2))).toBeLessThanOrEqual(1);
+      expect(Math.abs(mark.y + mark.height / 2 - (box.y + box.height / 2))).toBeLessThanOrEqual(1);
+
+      await page.keyboard.press('Enter');
+      await expect.poll(async () => (await added()).length).toBe(1);
+      // Enter again on the same spot finds that pin rather than stacking another on it.
+      await page.keyboard.press('Enter');
+      // Ten small steps right move the sheet 60 screen px left under the crosshair.
+      const { zoom } = JSON.parse((await canvas.getAttribute('data-view'))!) as { zoom: number };
+      for (let i = 0; i < 10; i++) await page.keyboard.press('Shift+ArrowRight');
+      await page.keyboard.press('Enter');
+      await expect.poll(async () => (await added()).length).toBe(2);
+      const [first, second] = await added();
+      expect(Math.hypot(second.x - first.x, second.y - first.y)).toBeCloseTo(60 / zoom, 1);
+
+      // The new pin is selected: Delete takes it off, and the sheet saves without it.
+      await page.keyboard.press('Delete');
+      await expect.poll(async () => (await added()).length).toBe(1);
+      await screenshot(page, 'a11y-keyboard-pin');
+      // Back to the first, which Enter selects, and off with it too.
+      for (let i = 0; i < 10; i++) await page.keyboard.press('Shift+ArrowLeft');
+      await page.keyboard.press('Enter');
+      await page.keyboard.press('Delete');
+      await expect.poll(async () => (await added()).length).toBe(0);
+
+      // The mouse takes over: the crosshair goes.
+      await canvas.click({ position: { x: 10, y: 10 }, button: 'right' });
+      expect(await crosshair.count()).toBe(0);
+      await page.close();
+    },
+  );
 });
 
 describe('controls the library draws for the mouse, from the keyboard', () => {

@@ -463,10 +463,10 @@ describe('a new builder’s journey, from an empty account to the shop sheet, in
       const prompt = page.getByTestId('correction-prompt');
       expect(await prompt.locator('#correction-wrong').inputValue()).toBe('2 1/2');
       expect(await prompt.locator('#correction-corrected').inputValue()).toBe('2 1/4');
-      await fieldOf(prompt, 'Where the right figure came from', '.n-select').click();
-      await page
-        .locator('.n-base-select-option', { hasText: 'a photograph of the prototype' })
-        .click();
+      await choose(
+        fieldOf(prompt, 'Where the right figure came from', '.n-select'),
+        'a photograph of the prototype',
+      );
       await fieldOf(prompt, 'Source, in a few words').fill('prototype photo, foot of the bedplate');
       await prompt.getByRole('button', { name: 'Record the correction' }).click();
       await prompt.waitFor({ state: 'hidden' });
@@ -590,6 +590,25 @@ describe('a new builder’s journey, from an empty account to the shop sheet, in
 });
 
 /** The control (an input unless told) of a Naive UI form item, found by its label's text. */
+/**
+ * Picks an option of a Naive UI select and waits until the select shows it. A click that lands
+ * while the menu is still opening can be lost; then the menu is closed and opened again.
+ */
+async function choose(select: Locator, option: string) {
+  const page = select.page();
+  for (let attempt = 1; ; attempt++) {
+    await select.click();
+    await page.locator('.n-base-select-option', { hasText: option }).click();
+    try {
+      await expect.poll(() => select.innerText(), { timeout: 3000 }).toContain(option);
+      return;
+    } catch (err) {
+      if (attempt === 3) throw err;
+      await page.keyboard.press('Escape');
+    }
+  }
+}
+
 function fieldOf(form: Locator, label: string, control = 'input'): Locator {
   return form
     .locator('.n-form-item')
