@@ -191,6 +191,45 @@ describe('rate limiting of failed sign-ins', () => {
   });
 });
 
+describe('the client address behind a load balancer (TRUST_PROXY)', () => {
+  // Ten failures from one address, then the real password from another: refused only when the
+  // two addresses are the same client to the app.
+  async function afterTenFailures(app: TestApp, email: string, from: string, then: string) {
+    const owner = new TestClient(app.app);
+    await owner.register(email, 'the real password');
+    const attacker = new TestClient(app.app);
+    await attacker.refresh();
+    const login = (password: string, address: string) =>
+      attacker.agent
+        .post('/api/auth/login')
+        .set('X-CSRF-Token', attacker.csrf)
+        .set('X-Forwarded-For', address)
+        .send({ email, password });
+    for (let i = 0; i < 10; i++) expect((await login(`guess ${i}`, from)).status).toBe(401);
+    return (await login('the real password', then)).status;
+  }
+
+  it('unset, a forged X-Forwarded-For does not make a new client: the limit holds', async () => {
+    expect(await afterTenFailures(t, 'forged.xff@example.com', '203.0.113.7', '203.0.113.8')).toBe(
+      429,
+    );
+  });
+
+  it('set to one hop, the address the proxy gives is the client: another one is not limited', async () => {
+    const behind = await createTestApp({ trustProxy: '1' });
+    try {
+      expect(
+        await afterTenFailures(behind, 'behind.proxy@example.com', '203.0.113.7', '203.0.113.8'),
+      ).toBe(200);
+      expect(
+        await afterTenFailures(behind, 'same.client@example.com', '203.0.113.9', '203.0.113.9'),
+      ).toBe(429);
+    } finally {
+      await behind.close();
+    }
+  });
+});
+
 describe('password reset by e-mail', () => {
   it('answers the same for a known and an unknown address', async () => {
     const c = new TestClient(t.app);

@@ -69,6 +69,8 @@ export async function createTestApp(
     databaseUrl?: string;
     /** POST /api/solve calls per user per minute (default: the app's, 120). */
     solvesPerMinute?: number;
+    /** Express `trust proxy`, as TRUST_PROXY sets it (default: unset, no proxy trusted). */
+    trustProxy?: string;
   } = {},
 ): Promise<TestApp> {
   const testDb = options.databaseUrl
@@ -91,6 +93,7 @@ export async function createTestApp(
     uploadMaxBytes: options.uploadMaxBytes,
     uploadTempDir,
     solvesPerMinute: options.solvesPerMinute,
+    trustProxy: options.trustProxy,
     hasher: testHasher,
     sessionSecret: options.sessionSecret ?? randomBytes(32).toString('hex'),
     appUrl: options.appUrl ?? 'http://127.0.0.1:3000',
