@@ -49,9 +49,11 @@ export const checks = pgTable(
       .notNull()
       .references(() => projects.id, { onDelete: 'cascade' }),
     dimension: text('dimension').notNull(),
-    userId: uuid('user_id')
-      .notNull()
-      .references(() => users.id, { onDelete: 'cascade' }),
+    /** Null for a check imported from a bundle: author_name says who made it. */
+    userId: uuid('user_id').references(() => users.id, { onDelete: 'cascade' }),
+    /** Who did it, as recorded in the bundle this project was imported from (user_id is null). */
+    authorName: text('author_name'),
+    authorEmail: text('author_email'),
     value: doublePrecision('value').notNull(),
     fingerprint: text('fingerprint').notNull(),
     revision: integer('revision').notNull(),
@@ -70,6 +72,9 @@ export const comments = pgTable(
     targetKind: text('target_kind', { enum: ['dimension', 'relation', 'pin', 'sheet'] }).notNull(),
     targetId: text('target_id').notNull(),
     userId: uuid('user_id').references(() => users.id, { onDelete: 'set null' }),
+    /** Who did it, as recorded in the bundle this project was imported from (user_id is null). */
+    authorName: text('author_name'),
+    authorEmail: text('author_email'),
     body: text('body').notNull(),
     mentions: jsonb('mentions').notNull().default([]),
     createdAt: timestamp('created_at', { withTimezone: true }).notNull().defaultNow(),
@@ -93,6 +98,9 @@ export const corrections = pgTable(
     source: text('source').notNull(),
     sourceNote: text('source_note').notNull().default(''),
     userId: uuid('user_id').references(() => users.id, { onDelete: 'set null' }),
+    /** Who did it, as recorded in the bundle this project was imported from (user_id is null). */
+    authorName: text('author_name'),
+    authorEmail: text('author_email'),
     createdAt: timestamp('created_at', { withTimezone: true }).notNull().defaultNow(),
   },
   (t) => [index('corrections_project_idx').on(t.projectId)],
@@ -107,6 +115,9 @@ export const activity = pgTable(
       .notNull()
       .references(() => projects.id, { onDelete: 'cascade' }),
     userId: uuid('user_id').references(() => users.id, { onDelete: 'set null' }),
+    /** Who did it, as recorded in the bundle this project was imported from (user_id is null). */
+    authorName: text('author_name'),
+    authorEmail: text('author_email'),
     kind: text('kind').notNull(),
     summary: text('summary').notNull(),
     details: jsonb('details').notNull().default({}),

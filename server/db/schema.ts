@@ -120,6 +120,9 @@ export const modelRevisions = pgTable(
       .references(() => projects.id, { onDelete: 'cascade' }),
     revision: integer('revision').notNull(),
     userId: uuid('user_id').references(() => users.id, { onDelete: 'set null' }),
+    /** Who did it, as recorded in the bundle this project was imported from (user_id is null). */
+    authorName: text('author_name'),
+    authorEmail: text('author_email'),
     createdAt: timestamp('created_at', { withTimezone: true }).notNull().defaultNow(),
     summary: text('summary').notNull(),
     diff: jsonb('diff').notNull(),
