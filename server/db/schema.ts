@@ -26,6 +26,12 @@ export const users = pgTable(
       .notNull()
       .default('member'),
     createdAt: timestamp('created_at', { withTimezone: true }).notNull().defaultNow(),
+    /**
+     * When the address was shown to reach the account's owner: the account was made from a
+     * link mailed there (an invitation or an address confirmation), or a reset or confirmation
+     * link was used. Null for accounts made before addresses were confirmed.
+     */
+    emailVerifiedAt: timestamp('email_verified_at', { withTimezone: true }),
   },
   (t) => [uniqueIndex('users_email_key').on(t.email)],
 );
@@ -74,6 +80,31 @@ export const passwordResets = pgTable(
     createdAt: timestamp('created_at', { withTimezone: true }).notNull().defaultNow(),
   },
   (t) => [uniqueIndex('password_resets_token_key').on(t.tokenHash)],
+);
+
+/**
+ * A link mailed to confirm an address. For a registration there is no account yet: the name
+ * and password hash wait here, and the account is made when the link is opened, so an address
+ * nobody has confirmed never holds an account. For an older account (`userId` set) the link
+ * only marks its address confirmed.
+ */
+export const emailConfirmations = pgTable(
+  'email_confirmations',
+  {
+    id: uuid('id').primaryKey().defaultRandom(),
+    email: text('email').notNull(),
+    /** SHA-256 of the token sent by mail; the token itself is never stored. */
+    tokenHash: text('token_hash').notNull(),
+    userId: uuid('user_id').references(() => users.id, { onDelete: 'cascade' }),
+    name: text('name'),
+    passwordHash: text('password_hash'),
+    expiresAt: timestamp('expires_at', { withTimezone: true }).notNull(),
+    createdAt: timestamp('created_at', { withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [
+    uniqueIndex('email_confirmations_token_key').on(t.tokenHash),
+    index('email_confirmations_email_idx').on(t.email),
+  ],
 );
 
 /** The table connect-pg-simple reads and writes; the schema owns it so migrations create it. */
