@@ -1,4 +1,3 @@
-import { stringify } from 'csv-stringify/sync';
 import {
   evaluateFeatures,
   type FairsheetModel,
@@ -18,6 +17,7 @@ import {
   type ShopSheetRow,
 } from '@shared/api';
 import type { ProjectRow } from '../db/schema';
+import { toCsv } from '../http/csv';
 import { renderShopSheetPdf } from '../pdf/shop-sheet';
 import type { ModelService } from './models';
 
@@ -339,7 +339,7 @@ export function shopSheetCsv(sheet: ShopSheet): string {
       };
     }),
   );
-  return stringify(records, { header: true, columns: [...SHOP_SHEET_CSV_COLUMNS] });
+  return toCsv(records, SHOP_SHEET_CSV_COLUMNS);
 }
 
 export function createShopSheetService(

@@ -167,6 +167,46 @@ describe('GET /api/projects/:projectId/shop-sheet.csv', () => {
     expect(stretcher.x_in).toBe('');
     expect(stretcher.warnings).toMatch(/not determined/);
   });
+
+  it('makes labels a spreadsheet would run as formulas into text, and leaves negative numbers numbers', async () => {
+    // The leading characters and the treatment (a single quote inside double quotes) are
+    // OWASP's "CSV Injection" page: https://owasp.org/www-community/attacks/CSV_Injection
+    const labels = ['=HYPERLINK("http://x","y")', '+1', '@SUM(A1)', '-2+3', '\t=1+2'];
+    const created = await builder
+      .post('/api/projects', { name: 'Formula labels', displayUnit: 'in' })
+      .expect(201);
+    const url = `/api/projects/${created.body.id}`;
+    const model = {
+      format: 'fairsheet.model',
+      version: 1,
+      units: 'in',
+      dimensions: [],
+      parts: [{ id: 'plate', name: 'Plate' }],
+      features: labels.map((label, i) => ({
+        id: `f${i}`,
+        part: 'plate',
+        kind: 'hole',
+        label,
+        x: -0.125,
+        y: i,
+      })),
+    };
+    await builder.put(`${url}/model`, { revision: 0, model }).expect(200);
+    const res = await builder.get(`${url}/shop-sheet.csv`).expect(200);
+    const rows = parseCsv(res.text);
+    const labelOf = (i: number) => rows.find((r) => r.feature === `f${i}`)!.label;
+    expect(labelOf(0)).toBe(`'=HYPERLINK("http://x","y")`);
+    expect(labelOf(1)).toBe(`'+1`);
+    expect(labelOf(2)).toBe(`'@SUM(A1)`);
+    expect(labelOf(3)).toBe(`'-2+3`);
+    // Labels are trimmed before the sheet is made: the tab goes, the formula after it is made text.
+    expect(labelOf(4)).toBe(`'=1+2`);
+    expect(res.text).toContain(`"'=HYPERLINK(""http://x"",""y"")"`);
+    // −0.125 in = −3.175 mm: numbers, written bare, not made text.
+    expect(rows.every((r) => r.x_in === '-0.1250' && r.x_mm === '-3.175')).toBe(true);
+    expect(res.text).toMatch(/,-0\.1250,/);
+    expect(res.text).not.toContain(`'-0.1250`);
+  });
 });
 
 describe('who may download the shop sheet', () => {
