@@ -13,6 +13,8 @@
  * does; a measurement's ± is what the stack-up then carries.
  */
 
+import { factorDense } from './numeric';
+
 const MM_PER_IN = 25.4;
 const MM_PER_FT = 304.8;
 
@@ -235,34 +237,12 @@ export function perAxisScale(
 type Mat3 = readonly number[];
 
 /**
- * Solves A·x = b in place by Gaussian elimination with partial pivoting. Answers undefined when
- * a pivot falls below `relTol` × the largest entry: the points do not fix the unknowns.
+ * Solves A·x = b with the engine's one LU solve. Answers undefined when a pivot falls below
+ * `relTol` × the largest entry: the points do not fix the unknowns.
  */
 function solveDense(a: number[][], b: number[], relTol: number): number[] | undefined {
-  const n = b.length;
-  let scale = 0;
-  for (const row of a) for (const v of row) scale = Math.max(scale, Math.abs(v));
-  if (scale === 0) return undefined;
-  for (let c = 0; c < n; c++) {
-    let p = c;
-    for (let r = c + 1; r < n; r++) if (Math.abs(a[r][c]) > Math.abs(a[p][c])) p = r;
-    if (Math.abs(a[p][c]) <= relTol * scale) return undefined;
-    [a[c], a[p]] = [a[p], a[c]];
-    [b[c], b[p]] = [b[p], b[c]];
-    for (let r = c + 1; r < n; r++) {
-      const f = a[r][c] / a[c][c];
-      if (f === 0) continue;
-      for (let k = c; k < n; k++) a[r][k] -= f * a[c][k];
-      b[r] -= f * b[c];
-    }
-  }
-  const x = new Array<number>(n).fill(0);
-  for (let r = n - 1; r >= 0; r--) {
-    let s = b[r];
-    for (let k = r + 1; k < n; k++) s -= a[r][k] * x[k];
-    x[r] = s / a[r][r];
-  }
-  return x;
+  const factor = factorDense(b.length, a.flat(), relTol);
+  return factor ? Array.from(factor.solve(b)) : undefined;
 }
 
 function mul3(a: Mat3, b: Mat3): number[] {

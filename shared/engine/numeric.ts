@@ -37,17 +37,22 @@ const SINGULAR_RATIO = 1e-12;
 
 /**
  * LU factorisation with partial pivoting of a dense n×n matrix (row-major). Returns null when
- * the matrix is singular to working precision.
+ * the matrix is singular to working precision: a pivot no larger than `singularRatio` times the
+ * largest entry.
  *
  * @example factorDense(2, [2, 1, 1, 3])!.solve([3, 5]) // Float64Array [0.8, 1.4]
  */
-export function factorDense(n: number, matrix: ArrayLike<number>): LinearFactor | null {
+export function factorDense(
+  n: number,
+  matrix: ArrayLike<number>,
+  singularRatio = SINGULAR_RATIO,
+): LinearFactor | null {
   const a = Float64Array.from(matrix as ArrayLike<number>);
   const piv = new Int32Array(n);
   let maxAbs = 0;
   for (let i = 0; i < n * n; i++) maxAbs = Math.max(maxAbs, Math.abs(a[i]));
   if (maxAbs === 0 || !Number.isFinite(maxAbs)) return null;
-  const tiny = maxAbs * SINGULAR_RATIO;
+  const tiny = maxAbs * singularRatio;
   for (let k = 0; k < n; k++) {
     let p = k;
     let best = Math.abs(a[k * n + k]);
@@ -79,6 +84,11 @@ export function factorDense(n: number, matrix: ArrayLike<number>): LinearFactor 
     n,
     solve(b) {
       const x = Float64Array.from(b as ArrayLike<number>);
+      // The factorisation swapped whole rows, multipliers already stored in them included, so
+      // the factors are those of P·A = L·U with P the product of every swap in order: apply
+      // the whole permutation to b first, then substitute forward through L. (Applying each
+      // swap between elimination steps, as an elimination that swaps only the active columns
+      // would, reads multipliers that later swaps have moved.)
       for (let k = 0; k < n; k++) {
         const p = piv[k];
         if (p !== k) {
@@ -86,7 +96,10 @@ export function factorDense(n: number, matrix: ArrayLike<number>): LinearFactor 
           x[k] = x[p];
           x[p] = t;
         }
-        for (let i = k + 1; i < n; i++) x[i] -= a[i * n + k] * x[k];
+      }
+      for (let k = 0; k < n; k++) {
+        const xk = x[k];
+        if (xk !== 0) for (let i = k + 1; i < n; i++) x[i] -= a[i * n + k] * xk;
       }
       for (let i = n - 1; i >= 0; i--) {
         let s = x[i];
