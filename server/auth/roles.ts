@@ -1,5 +1,5 @@
 import type { RequestHandler } from 'express';
-import type { ProjectRole } from '@shared/api';
+import { editorRoles, projectRoles, type ProjectRole } from '@shared/api';
 import type { Db } from '../db/client';
 import { findMembership } from '../db/projects';
 import type { ProjectRow } from '../db/schema';
@@ -12,15 +12,18 @@ export interface ProjectAccess {
   modelRevision: number | null;
 }
 
-export const anyMember: ProjectRole[] = ['owner', 'editor', 'checker', 'viewer'];
-export const editors: ProjectRole[] = ['owner', 'editor'];
+export const anyMember: readonly ProjectRole[] = projectRoles;
+export const editors: readonly ProjectRole[] = editorRoles;
 
 /**
  * Loads the project named by `:projectId` for the signed-in user and checks the role.
  * Not a member: 404 (a stranger learns nothing of the project); wrong role: 403.
  * The access is left on `res.locals.access` for the handler.
  */
-export function requireProjectRole(db: Db, roles: ProjectRole[] = anyMember): RequestHandler {
+export function requireProjectRole(
+  db: Db,
+  roles: readonly ProjectRole[] = anyMember,
+): RequestHandler {
   return async (req, res, next) => {
     const userId = req.session?.userId;
     if (!userId) throw unauthenticated();

@@ -12,9 +12,9 @@ import {
   uniqueIndex,
   uuid,
 } from 'drizzle-orm/pg-core';
+// Relative, not '@shared/api': drizzle-kit loads the schema without the app's path aliases.
+import { projectRoles } from '../../shared/api/projects';
 import { projects, users } from './schema';
-
-const roleEnum = ['owner', 'editor', 'checker', 'viewer'] as const;
 
 export const invitations = pgTable(
   'invitations',
@@ -24,7 +24,7 @@ export const invitations = pgTable(
       .notNull()
       .references(() => projects.id, { onDelete: 'cascade' }),
     email: text('email').notNull(),
-    role: text('role', { enum: roleEnum }).notNull(),
+    role: text('role', { enum: projectRoles }).notNull(),
     /** SHA-256 of the token in the mailed link; the token itself is never stored. */
     tokenHash: text('token_hash').notNull(),
     invitedBy: uuid('invited_by').references(() => users.id, { onDelete: 'set null' }),

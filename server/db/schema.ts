@@ -13,6 +13,8 @@ import {
   uuid,
   varchar,
 } from 'drizzle-orm/pg-core';
+// Relative, not '@shared/api': drizzle-kit loads the schema without the app's path aliases.
+import { projectRoles } from '../../shared/api/projects';
 
 export const users = pgTable(
   'users',
@@ -57,7 +59,7 @@ export const memberships = pgTable(
     userId: uuid('user_id')
       .notNull()
       .references(() => users.id, { onDelete: 'cascade' }),
-    role: text('role', { enum: ['owner', 'editor', 'checker', 'viewer'] }).notNull(),
+    role: text('role', { enum: projectRoles }).notNull(),
     createdAt: timestamp('created_at', { withTimezone: true }).notNull().defaultNow(),
   },
   (t) => [

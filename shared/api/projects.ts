@@ -1,7 +1,21 @@
 import { z } from 'zod';
 
-export const projectRole = z.enum(['owner', 'editor', 'checker', 'viewer']);
+/** A member's role in a project: the one list the database, the server and the client use. */
+export const projectRoles = ['owner', 'editor', 'checker', 'viewer'] as const;
+export const projectRole = z.enum(projectRoles);
 export type ProjectRole = z.infer<typeof projectRole>;
+
+/** The roles that may change a project's model, sheets and parts. */
+export const editorRoles: readonly ProjectRole[] = ['owner', 'editor'];
+
+/**
+ * Whether a member with this role may edit (no role: not a member, may not).
+ *
+ * @example canEdit('checker') // false
+ */
+export function canEdit(role: ProjectRole | null | undefined): boolean {
+  return role != null && editorRoles.includes(role);
+}
 
 export const displayUnit = z.enum(['in', 'mm']);
 

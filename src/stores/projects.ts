@@ -1,6 +1,12 @@
 import { defineStore } from 'pinia';
-import { ref } from 'vue';
-import type { CreateProjectBody, Member, Project, UpdateProjectBody } from '@shared/api';
+import { computed, ref } from 'vue';
+import {
+  canEdit as roleCanEdit,
+  type CreateProjectBody,
+  type Member,
+  type Project,
+  type UpdateProjectBody,
+} from '@shared/api';
 import { projectsApi } from '@/api/projects';
 
 export const useProjectsStore = defineStore('projects', () => {
@@ -8,6 +14,8 @@ export const useProjectsStore = defineStore('projects', () => {
   const current = ref<Project | null>(null);
   const members = ref<Member[]>([]);
   const loading = ref(false);
+  /** Whether the signed-in user may edit the open project. */
+  const canEdit = computed(() => roleCanEdit(current.value?.role));
 
   async function loadList() {
     loading.value = true;
@@ -44,5 +52,5 @@ export const useProjectsStore = defineStore('projects', () => {
     if (current.value?.id === id) current.value = null;
   }
 
-  return { projects, current, members, loading, loadList, open, create, update, remove };
+  return { projects, current, members, loading, canEdit, loadList, open, create, update, remove };
 });
