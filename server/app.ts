@@ -139,9 +139,9 @@ export function createApp(deps: AppDeps): Express {
   });
   const activity = createActivityService(db);
   const models = createModelService(db, activity);
-  const projects = createProjectService(db, models);
   const storage = deps.storage ?? createLocalStorage('uploads');
   const sheets = createSheetService({ db, storage });
+  const projects = createProjectService(db, models, sheets.releaseFiles);
   const uploadMaxBytes = deps.uploadMaxBytes ?? 60 * 1024 * 1024;
 
   const invitations = createInvitationService({

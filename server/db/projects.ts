@@ -5,6 +5,7 @@ import {
   memberships,
   projectModels,
   projects,
+  sheets,
   users,
   type MembershipRow,
   type ProjectRow,
@@ -74,7 +75,25 @@ export async function updateProject(
   return row;
 }
 
-export async function deleteProject(db: Db, projectId: string) {
+/**
+ * Locks the project's row for the rest of the transaction and answers the stored files its
+ * sheets use. An upload to the project waits on the lock (its sheets' foreign key), so no file
+ * can join the project between this answer and the project's deletion.
+ */
+export async function lockProjectFiles(tx: DbOrTx, projectId: string): Promise<string[]> {
+  await tx
+    .select({ id: projects.id })
+    .from(projects)
+    .where(eq(projects.id, projectId))
+    .for('update');
+  const rows = await tx
+    .selectDistinct({ sha256: sheets.fileSha256 })
+    .from(sheets)
+    .where(eq(sheets.projectId, projectId));
+  return rows.map((r) => r.sha256);
+}
+
+export async function deleteProject(db: DbOrTx, projectId: string) {
   await db.delete(projects).where(eq(projects.id, projectId));
 }
 

@@ -22,7 +22,14 @@ export function toProject(row: ProjectRow, role: ProjectRole): Project {
   };
 }
 
-export function createProjectService(db: Db, models: ModelService) {
+/** Removes stored files that no sheet uses any more (the sheet service's `releaseFiles`). */
+export type FileReleaser = (keys: string[]) => Promise<void>;
+
+/**
+ * `releaseFiles`: how a deleted project's files leave the storage at once; without it (the
+ * demo seed, which deletes nothing) they would wait for the start-up sweep.
+ */
+export function createProjectService(db: Db, models: ModelService, releaseFiles?: FileReleaser) {
   return {
     async list(userId: string): Promise<Project[]> {
       const rows = await repo.listProjectsOfUser(db, userId);
@@ -51,8 +58,14 @@ export function createProjectService(db: Db, models: ModelService) {
       return toProject(row, role);
     },
 
+    /** Deletes the project, then each of its files that no other project's sheet uses. */
     async remove(projectId: string): Promise<void> {
-      await repo.deleteProject(db, projectId);
+      const keys = await db.transaction(async (tx) => {
+        const files = await repo.lockProjectFiles(tx, projectId);
+        await repo.deleteProject(tx, projectId);
+        return files;
+      });
+      await releaseFiles?.(keys);
     },
 
     async members(projectId: string): Promise<Member[]> {

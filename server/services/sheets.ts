@@ -283,6 +283,18 @@ export function createSheetService({ db, storage, limits }: SheetServiceOptions)
   }
 
   /**
+   * Removes each of `keys` (a deleted project's files) that no sheet uses any more; one that
+   * cannot be removed now is logged and left to the start-up sweep.
+   */
+  async function releaseFiles(keys: string[]) {
+    for (const sha256 of keys) {
+      await releaseFile(sha256).catch((err: Error) =>
+        console.error(`[sheets] unused file ${sha256} kept until the next start: ${err.message}`),
+      );
+    }
+  }
+
+  /**
    * Removes a file that no sheet uses: its row and, under the row's lock, its blob (an upload
    * of the same content waits, then writes the blob anew). The blob goes before the commit,
    * so dying in between leaves a row without blob and without sheets: the next upload of that
@@ -335,7 +347,7 @@ export function createSheetService({ db, storage, limits }: SheetServiceOptions)
     };
   }
 
-  return { list, get, upload, update, remove, removeUnusedFiles, file };
+  return { list, get, upload, update, remove, releaseFiles, removeUnusedFiles, file };
 }
 
 export type SheetService = ReturnType<typeof createSheetService>;

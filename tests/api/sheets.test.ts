@@ -648,6 +648,45 @@ describe('deleting sheets', () => {
   });
 });
 
+describe('deleting a project', () => {
+  it('removes its stored files at once, and keeps one another project still uses', async () => {
+    const newProject = async (name: string) =>
+      (await owner.post('/api/projects', { name, displayUnit: 'mm' }).expect(201)).body
+        .id as string;
+    const doomed = await newProject('Doomed');
+    const kept = await newProject('Kept');
+    const own = makePng(6, 6, 91);
+    const shared = makePng(6, 6, 92);
+    const [a, b] = (
+      await upload(
+        owner,
+        [
+          { bytes: own, name: 'own.png' },
+          { bytes: shared, name: 'shared.png' },
+        ],
+        doomed,
+      ).expect(201)
+    ).body.sheets;
+    const other = (await upload(owner, [{ bytes: shared, name: 'shared.png' }], kept).expect(201))
+      .body.sheets[0];
+    expect(blobsIn(t.storageDir!)).toEqual(
+      expect.arrayContaining([a.file.sha256, b.file.sha256]),
+    );
+
+    await owner.delete(url('', doomed)).expect(204);
+    // At once: no restart (and its sweep) in between.
+    expect(blobsIn(t.storageDir!)).not.toContain(a.file.sha256);
+    expect(blobsIn(t.storageDir!)).toContain(other.file.sha256);
+    const { rows } = await t.database.pool.query(
+      'select sha256 from files where sha256 = any($1)',
+      [[a.file.sha256, b.file.sha256]],
+    );
+    expect(rows).toEqual([{ sha256: other.file.sha256 }]);
+    const served = await owner.get(url(`/sheets/${other.id}/file`, kept)).expect(200);
+    expect(Buffer.compare(served.body as Buffer, shared)).toBe(0);
+  });
+});
+
 describe('the demo sheets', () => {
   let demo: TestApp;
 

@@ -142,4 +142,27 @@ describe('the API on S3 storage', () => {
     await client.delete(`/api/projects/${projectId}/sheets/${b.id}`).expect(204);
     expect(await storage().exists(a.file.sha256)).toBe(false);
   });
+
+  it('deleting a project removes its files from the bucket at once, but not one another project uses', async () => {
+    const newProject = async (name: string) =>
+      (await client.post('/api/projects', { name, displayUnit: 'mm' }).expect(201)).body
+        .id as string;
+    const [doomed, kept] = [await newProject('Doomed on S3'), await newProject('Kept on S3')];
+    const own = makePng(7, 5, 11);
+    const shared = makePng(7, 5, 12);
+    const put = (project: string, png: Buffer) =>
+      client.agent
+        .post(`/api/projects/${project}/sheets`)
+        .set('X-CSRF-Token', client.csrf)
+        .attach('file', png, { filename: 'p.png' })
+        .expect(201);
+    await put(doomed, own);
+    await put(doomed, shared);
+    await put(kept, shared);
+    expect(await storage().exists(sha(own))).toBe(true);
+
+    await client.delete(`/api/projects/${doomed}`).expect(204);
+    expect(await storage().exists(sha(own))).toBe(false);
+    expect(await storage().exists(sha(shared))).toBe(true);
+  });
 });
