@@ -40,12 +40,34 @@ export interface ValueMove {
   delta: number | null;
 }
 
+/**
+ * Whether two JSON values say the same, whatever the order of their keys: a model read back
+ * from PostgreSQL's jsonb has its keys in jsonb's own order (shorter keys first), not the order
+ * it was written in, so comparing JSON text would call every nested object changed. A key
+ * holding `undefined` counts as absent, as in JSON.
+ *
+ * @example sameJson({ type: 'circle', pcd: 1 }, { pcd: 1, type: 'circle' }) // true
+ */
+function sameJson(a: unknown, b: unknown): boolean {
+  if (a === b) return true;
+  if (typeof a !== 'object' || typeof b !== 'object' || a === null || b === null) return false;
+  if (Array.isArray(a) || Array.isArray(b)) {
+    if (!Array.isArray(a) || !Array.isArray(b) || a.length !== b.length) return false;
+    return a.every((v, i) => sameJson(v, b[i]));
+  }
+  const x = a as Record<string, unknown>;
+  const y = b as Record<string, unknown>;
+  const keys = (o: Record<string, unknown>) => Object.keys(o).filter((k) => o[k] !== undefined);
+  const kx = keys(x);
+  return kx.length === keys(y).length && kx.every((k) => sameJson(x[k], y[k]));
+}
+
 function fieldChanges(before: object, after: object): FieldChange[] {
   const a = before as Record<string, unknown>;
   const b = after as Record<string, unknown>;
   const keys = [...new Set([...Object.keys(a), ...Object.keys(b)])].sort();
   return keys
-    .filter((k) => JSON.stringify(a[k]) !== JSON.stringify(b[k]))
+    .filter((k) => !sameJson(a[k], b[k]))
     .map((k) => ({ field: k, from: a[k], to: b[k] }));
 }
 

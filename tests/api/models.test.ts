@@ -246,3 +246,39 @@ describe('history, compare and restore', () => {
     expect(file.format).toBe('fairsheet.model');
   });
 });
+
+describe('saving an unchanged model', () => {
+  it('records no history and no activity after a round trip through PostgreSQL', async () => {
+    const before = (await owner.get(url('/model'))).body;
+    const model = structuredClone(before.model);
+    // Nested objects are where jsonb's own key order shows: the pattern is written here in
+    // the schema's order (type, count, pcd, startDeg) and read back shortest key first.
+    model.parts = [{ id: 'flange', name: 'Flange' }];
+    model.features = [
+      {
+        id: 'studs',
+        part: 'flange',
+        kind: 'hole',
+        x: 0,
+        y: 0,
+        pattern: { type: 'circle', count: 4, pcd: 'boss', startDeg: 45 },
+      },
+    ];
+    const saved = await owner.put(url('/model'), { revision: before.revision, model }).expect(200);
+    const stored = (await owner.get(url('/model'))).body;
+    expect(stored.revision).toBe(saved.body.revision);
+    expect(Object.keys(stored.model.features[0].pattern)).not.toEqual(
+      Object.keys(model.features[0].pattern),
+    );
+    const history = (await viewer.get(url('/history')).expect(200)).body.entries.length;
+    const activity = (await viewer.get(url('/activity?kind=save')).expect(200)).body.entries.length;
+
+    const again = await owner
+      .put(url('/model'), { revision: stored.revision, model: stored.model })
+      .expect(200);
+    expect(again.body).toMatchObject({ revision: stored.revision, summary: 'no change' });
+    expect((await owner.get(url('/model'))).body.revision).toBe(stored.revision);
+    expect((await viewer.get(url('/history'))).body.entries).toHaveLength(history);
+    expect((await viewer.get(url('/activity?kind=save'))).body.entries).toHaveLength(activity);
+  });
+});

@@ -54,6 +54,57 @@ describe('diffModels', () => {
     expect(isEmptyDiff(diffModels(base, structuredClone(base)))).toBe(true);
   });
 
+  it('finds no change in a model whose keys come back in another order, as from jsonb', () => {
+    // PostgreSQL's jsonb keeps its own key order, not the input's (PostgreSQL manual, 8.14
+    // "JSON Types"): reversing every object's keys stands in for the round trip.
+    const reordered = (v: unknown): unknown =>
+      Array.isArray(v)
+        ? v.map(reordered)
+        : v && typeof v === 'object'
+          ? Object.fromEntries(
+              Object.entries(v)
+                .reverse()
+                .map(([k, x]) => [k, reordered(x)]),
+            )
+          : v;
+    const withPattern = edit((m) => {
+      m.defaults = { angleDeg: 0.5, assumed: 0 };
+      m.features = [
+        {
+          id: 'studs',
+          part: 'bar',
+          kind: 'hole',
+          x: 1,
+          y: 1,
+          pattern: { type: 'circle', count: 4, pcd: '0.89', startDeg: 45 },
+        },
+      ];
+    });
+    const back = reordered(withPattern) as FairsheetModelInput;
+    expect(JSON.stringify(back.features![0].pattern)).not.toBe(
+      JSON.stringify(withPattern.features![0].pattern),
+    );
+    const d = diffModels(withPattern, back);
+    expect(isEmptyDiff(d)).toBe(true);
+    expect(summariseDiff(d)).toBe('no change');
+    // A real change inside the nested object is still one.
+    const moved = structuredClone(back);
+    (moved.features![0].pattern as { startDeg: number }).startDeg = 30;
+    expect(diffModels(withPattern, moved).features).toEqual([
+      expect.objectContaining({
+        key: 'studs',
+        change: 'changed',
+        fields: [
+          {
+            field: 'pattern',
+            from: withPattern.features![0].pattern,
+            to: moved.features![0].pattern,
+          },
+        ],
+      }),
+    ]);
+  });
+
   it('replays an edit on a newer model field by field: both editors’ changes survive', () => {
     const mine = edit((m) => ((m.dimensions[1] as { value: string }).value = '7/8'));
     const theirs = edit((m) => {
