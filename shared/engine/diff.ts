@@ -26,6 +26,8 @@ export interface ItemChange<T> {
 
 export interface ModelDiff {
   units?: { from: string; to: string };
+  /** The implied-tolerance rules, when they changed (absent from diffs recorded before them). */
+  defaults?: { from: FairsheetModelInput['defaults']; to: FairsheetModelInput['defaults'] };
   dimensions: ItemChange<DimensionInput>[];
   relations: ItemChange<RelationInput>[];
   parts: ItemChange<PartInput>[];
@@ -66,9 +68,7 @@ function fieldChanges(before: object, after: object): FieldChange[] {
   const a = before as Record<string, unknown>;
   const b = after as Record<string, unknown>;
   const keys = [...new Set([...Object.keys(a), ...Object.keys(b)])].sort();
-  return keys
-    .filter((k) => !sameJson(a[k], b[k]))
-    .map((k) => ({ field: k, from: a[k], to: b[k] }));
+  return keys.filter((k) => !sameJson(a[k], b[k])).map((k) => ({ field: k, from: a[k], to: b[k] }));
 }
 
 function diffBy<T extends object>(
@@ -102,6 +102,9 @@ function diffBy<T extends object>(
 export function diffModels(before: FairsheetModelInput, after: FairsheetModelInput): ModelDiff {
   return {
     ...(before.units !== after.units ? { units: { from: before.units, to: after.units } } : {}),
+    ...(sameJson(before.defaults, after.defaults)
+      ? {}
+      : { defaults: { from: before.defaults, to: after.defaults } }),
     dimensions: diffBy(before.dimensions, after.dimensions, (d) => d.name),
     relations: diffBy(before.relations ?? [], after.relations ?? [], (r) => r.id),
     parts: diffBy(before.parts ?? [], after.parts ?? [], (p) => p.id),
@@ -112,6 +115,7 @@ export function diffModels(before: FairsheetModelInput, after: FairsheetModelInp
 export function isEmptyDiff(diff: ModelDiff): boolean {
   return (
     !diff.units &&
+    !diff.defaults &&
     diff.dimensions.length === 0 &&
     diff.relations.length === 0 &&
     (diff.parts?.length ?? 0) === 0 &&
@@ -122,6 +126,26 @@ export function isEmptyDiff(diff: ModelDiff): boolean {
 const show = (v: unknown) =>
   v === undefined ? '—' : typeof v === 'string' ? v : JSON.stringify(v);
 
+const FIELD_WORDS: Readonly<Record<string, string>> = {
+  tol: 'tolerance',
+  tolMinus: 'minus tolerance',
+  tolPlus: 'plus tolerance',
+  expr: 'expression',
+  drillSet: 'drill set',
+  drillDepth: 'drill depth',
+  pcd: 'pitch circle',
+  startAngle: 'start angle',
+};
+
+/**
+ * A model field as the history says it: `tol` reads "tolerance".
+ *
+ * @example fieldWords('tolPlus') // 'plus tolerance'
+ */
+export function fieldWords(field: string): string {
+  return FIELD_WORDS[field] ?? field;
+}
+
 /**
  * One line for a history list, e.g. "overall 6 1/4 → 6 3/8; added slot; r2 edited".
  *
@@ -130,6 +154,7 @@ const show = (v: unknown) =>
 export function summariseDiff(diff: ModelDiff, limit = 4): string {
   const parts: string[] = [];
   if (diff.units) parts.push(`units ${diff.units.from} → ${diff.units.to}`);
+  if (diff.defaults) parts.push('tolerance defaults edited');
   for (const d of diff.dimensions) {
     if (d.change === 'added') parts.push(`added ${d.key}`);
     else if (d.change === 'removed') parts.push(`removed ${d.key}`);
@@ -137,7 +162,7 @@ export function summariseDiff(diff: ModelDiff, limit = 4): string {
       const f = d.fields[0];
       parts.push(
         d.fields.length === 1
-          ? `${d.key} ${f.field} ${show(f.from)} → ${show(f.to)}`
+          ? `${d.key} ${fieldWords(f.field)} ${show(f.from)} → ${show(f.to)}`
           : `${d.key} edited`,
       );
     }
@@ -217,6 +242,7 @@ export function applyDiff(model: FairsheetModelInput, diff: ModelDiff): Fairshee
   return {
     ...model,
     ...(diff.units ? { units: diff.units.to as FairsheetModelInput['units'] } : {}),
+    ...(diff.defaults ? { defaults: diff.defaults.to } : {}),
     dimensions: applyBy(model.dimensions, diff.dimensions, (d) => d.name),
     relations: applyBy(model.relations ?? [], diff.relations, (r) => r.id),
     parts: applyBy(model.parts ?? [], diff.parts ?? [], (p) => p.id),

@@ -54,6 +54,15 @@ describe('diffModels', () => {
     expect(isEmptyDiff(diffModels(base, structuredClone(base)))).toBe(true);
   });
 
+  it('sees a change of the implied-tolerance rules alone, and replays it', () => {
+    const after = edit((m) => (m.defaults = { angleDeg: 1 }));
+    const d = diffModels(base, after);
+    expect(d.defaults).toEqual({ from: undefined, to: { angleDeg: 1 } });
+    expect(isEmptyDiff(d)).toBe(false);
+    expect(summariseDiff(d)).toBe('tolerance defaults edited');
+    expect(applyDiff(base, d).defaults).toEqual({ angleDeg: 1 });
+  });
+
   it('finds no change in a model whose keys come back in another order, as from jsonb', () => {
     // PostgreSQL's jsonb keeps its own key order, not the input's (PostgreSQL manual, 8.14
     // "JSON Types"): reversing every object's keys stands in for the round trip.
