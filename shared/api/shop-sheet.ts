@@ -8,11 +8,11 @@ export type PaperSize = z.infer<typeof paperSize>;
 export const shopSheetPdfQuery = z.object({ paper: paperSize.default('a4') });
 
 const lengthCell = z.object({
-  /** In the model unit; null when the position is not determined. */
+  /** In the model unit; null when the position is open. */
   value: z.number().nullable(),
   /** The same in the other unit. */
   other: z.number().nullable(),
-  /** Formatted, model unit (`7.3125`) and other unit (`185.738`); `—` when not determined. */
+  /** Formatted, model unit (`7.3125`) and other unit (`185.738`); `—` when the position is open. */
   text: z.string(),
   otherText: z.string(),
 });

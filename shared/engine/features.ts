@@ -33,6 +33,7 @@ import {
   tapDrillFor,
   threadByDesignation,
   ThreadError,
+  drillSetWords,
   type DrillRecommendation,
   type ThreadSeries,
   type ThreadSpec,
@@ -276,8 +277,8 @@ export function expressionNames(text: string): string[] {
 // ---------------------------------------------------------------------------------------------
 
 const DRILL_FORMULA = 'N = 1000·Vc/(π·D), Vc in m/min, D in mm';
-const SPEED_SOURCE =
-  'N = 1000·Vc/(π·D) [published] incoherency.co.uk/jesref/lathe-speeds.html (check-values §9)';
+// N = 1000·Vc/(π·D) [published] incoherency.co.uk/jesref/lathe-speeds.html (check-values §9).
+const SPEED_SOURCE = 'N = 1000·Vc/(π·D)';
 
 function namesOf(node: ExprNode, into: Set<string>): Set<string> {
   switch (node.t) {
@@ -363,7 +364,7 @@ function speedFor(material: string, drillMm: number): FeatureSpeed | undefined {
       range,
       material: m.name,
       formula: DRILL_FORMULA,
-      source: `${SPEED_SOURCE}; HSS drilling, low end of ${range.min}–${range.max} m/min: ${source}`,
+      source: `${SPEED_SOURCE}; HSS drilling, low end of ${range.min === range.max ? range.min : `${range.min}–${range.max}`} m/min (${source})`,
     };
   } catch {
     return undefined;
@@ -645,7 +646,7 @@ export function evaluateFeatures(input: unknown, options: SolveOptions = {}): Fe
     owner: { feature: string; part: string },
   ): FeatureIssue => ({
     code: 'unsolved',
-    message: `${field}: the position is not determined yet; the relations need ${result.needs === 1 ? 'one more dimension' : `${result.needs} more dimensions`} (see the open values)`,
+    message: `${field}: the position is open; find ${result.needs === 1 ? 'one more figure' : `${result.needs} more figures`} on the drawing (see the open values)`,
     field,
     ...owner,
   });
@@ -738,7 +739,7 @@ export function evaluateFeatures(input: unknown, options: SolveOptions = {}): Fe
         mm: stock.mm,
         inch: stock.inch,
         role: 'clearance',
-        source: `${fit} clearance ${wanted.label}: ${wanted.source}; smallest ${set} stock drill at least that size`,
+        source: `${fit} clearance ${wanted.label}: ${wanted.source}; smallest ${drillSetWords(set)} stock drill at least that size`,
       };
     }
     if (f.drill) {

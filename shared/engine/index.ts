@@ -96,7 +96,7 @@ export type {
   MonteCarloValue,
 } from './result';
 
-export { diffModels, isEmptyDiff, summariseDiff, movedValues, applyDiff } from './diff';
+export { diffModels, isEmptyDiff, summariseDiff, movedValues, applyDiff, fieldWords } from './diff';
 export type { ModelDiff, ItemChange, FieldChange, ValueMove } from './diff';
 
 export { upstreamText } from './fingerprint';

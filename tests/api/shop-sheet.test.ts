@@ -165,7 +165,7 @@ describe('GET /api/projects/:projectId/shop-sheet.csv', () => {
     expect(rows.filter((r) => r.group === 'hornblock')).toHaveLength(6);
     const stretcher = rows.find((r) => r.feature === 'stretcher_hole')!;
     expect(stretcher.x_in).toBe('');
-    expect(stretcher.warnings).toMatch(/not determined/);
+    expect(stretcher.warnings).toMatch(/position is open/);
   });
 
   it('makes labels a spreadsheet would run as formulas into text, and leaves negative numbers numbers', async () => {

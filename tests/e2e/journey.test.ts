@@ -412,13 +412,13 @@ describe('a new builder’s journey, from an empty account to the shop sheet, in
       await addRelation(page, 'bolt2_x = length - end_b');
       const strip = page.getByTestId('status-strip');
       await expect.poll(() => strip.innerText()).toMatch(/1 contradiction on the drawing/);
-      expect(await strip.innerText()).toMatch(/2 redundant checks agree/);
+      expect(await strip.innerText()).toMatch(/2 cross-checks close/);
       await saveModel(page);
       await shot(page, '06-figures-entered');
 
       // 7a. It solves: bolt2_x = 10 − 2 1/2 = 7.5000; worst case 0.01 + 0.005 = ±0.0150,
       // RSS √(0.01² + 0.005²) = ±0.0112.
-      expect(await rowText(page, 'bolt2_x')).toContain('7.5000" ±0.0150 wc · ±0.0112 rss');
+      expect(await rowText(page, 'bolt2_x')).toContain('7.5000" ±0.0150 worst case · ±0.0112 RSS');
       await page.locator('[data-dimension="bolt2_x"] .result').click();
       const detail = page.getByRole('region', { name: 'Selected dimension' });
       expect(await detail.getByTestId('detail-value').innerText()).toBe('7.5000"');
@@ -455,10 +455,10 @@ describe('a new builder’s journey, from an empty account to the shop sheet, in
       await page.getByRole('button', { name: 'Apply', exact: true }).click();
       await expect.poll(() => contradiction.count()).toBe(0);
       expect(await strip.innerText()).toMatch(/Solved: 1 derived value/);
-      expect(await strip.innerText()).toMatch(/3 redundant checks agree/);
+      expect(await strip.innerText()).toMatch(/3 cross-checks close/);
       expect(await page.getByLabel('Value of end_b', { exact: true }).inputValue()).toBe('2 1/4');
       // bolt2_x = 10 − 2 1/4 = 7.7500, the same stack-up.
-      expect(await rowText(page, 'bolt2_x')).toContain('7.7500" ±0.0150 wc · ±0.0112 rss');
+      expect(await rowText(page, 'bolt2_x')).toContain('7.7500" ±0.0150 worst case · ±0.0112 RSS');
       // The fix, recorded as a correction of the drawing.
       const prompt = page.getByTestId('correction-prompt');
       expect(await prompt.locator('#correction-wrong').inputValue()).toBe('2 1/2');

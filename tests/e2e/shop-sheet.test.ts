@@ -76,7 +76,7 @@ describe('parts, the part drawing and the shop sheet, in a real browser', () => 
     await drawing.waitFor();
     // 4 × 2 bolt holes, 2 cut-outs, 2 buffer-angle holes; the stretcher hole is not placed yet.
     expect(await drawing.locator('g.feature').count()).toBe(12);
-    expect(await drawing.innerText()).toMatch(/Not drawn \(position not determined\): Stretcher/);
+    expect(await drawing.innerText()).toMatch(/Not drawn \(position open\): Stretcher/);
     await screenshot(page, 'part-frame');
 
     await page.goto(`${projectUrl}/parts/steam_flange`);

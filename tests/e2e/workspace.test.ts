@@ -51,7 +51,7 @@ describe('the dimensions workspace, in a real browser', () => {
     expect(await first.locator('.suspect-name').innerText()).toBe('rear_overhang');
     await first.getByRole('button', { name: /Trust the others/ }).click();
     await page.getByRole('button', { name: 'Apply' }).click();
-    await expect.poll(() => strip.innerText()).toMatch(/more dimension/);
+    await expect.poll(() => strip.innerText()).toMatch(/Open: \d+ figures? to find/);
     expect(await page.getByTestId('contradiction').count()).toBe(0);
     expect(await page.getByLabel('Value of rear_overhang', { exact: true }).inputValue()).toBe(
       '13',
