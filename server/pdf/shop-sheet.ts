@@ -241,7 +241,7 @@ class SheetWriter {
     let yy = top + 14 + this.heightOf(g.title, textW, 16, true) + 6;
     for (const p of g.parts) {
       const line =
-        `${p.name} — quantity ${p.quantity} · ${p.material} · drills: ${p.drillSet === 'numberLetter' ? 'number and letter' : p.drillSet}` +
+        `${p.name} — ${p.quantity} off · ${p.material} · drills: ${p.drillSet === 'numberLetter' ? 'number and letter' : p.drillSet}` +
         (p.pressure ? ' · PRESSURE-BEARING' : '');
       this.text(line, this.left + 16, yy, {
         size: 8.5,
@@ -351,7 +351,8 @@ class SheetWriter {
     this.ensure(40 + g.drills.length * 13);
     this.text('Drills and spindle speeds', this.left, this.y, { size: 10, bold: true, color: INK });
     this.text(
-      'N = 1000 × Vc / (π × D), Vc the low end of the HSS drilling range for the material [published] incoherency.co.uk lathe speeds (check-values §9)',
+      // The figures rest on incoherency.co.uk lathe speeds (check-values §9); the sheet names the practice only.
+      'N = 1000 × Vc / (π × D), Vc the low end of the HSS drilling range for the material (workshop practice)',
       this.left + 150,
       this.y + 2,
       { size: 7, color: MUTED, width: this.right - this.left - 150 },

@@ -51,15 +51,16 @@ export class DrillError extends Error {
   }
 }
 
+// What a builder reads. Checked against: number and letter [published] Wikipedia "Drill bit
+// sizes" and the Toolmex chart (docslib.org/doc/5335266); metric [published] Wikipedia "Drill
+// bit sizes" (check-values §5); fractional [computed, exact]; the tenths set
+// [common practice, no source].
 export const DRILL_SET_SOURCES: Readonly<Record<DrillFamily | 'metricTenths', string>> = {
-  number:
-    'ASME B94.11M number drills #1–#80 [published] Wikipedia "Drill bit sizes"; Toolmex chart (docslib.org/doc/5335266)',
-  letter: 'ASME B94.11M letter drills A–Z [published] Wikipedia "Drill bit sizes"',
-  fractional: 'Fractional inch drills in 1/64 in steps to 1 in [computed, exact]',
-  metric:
-    'BS 328 metric series 1.0–25 mm (0.05 mm to 2.95, 0.1 mm to 13.9, 0.25 mm to 25) [published] Wikipedia "Drill bit sizes"',
-  metricTenths:
-    'Workshop metric set 1.0–10.0 mm by 0.1, 10.5–13 mm by 0.5 [common practice, no source]',
+  number: 'ASME B94.11M number drills #1–#80',
+  letter: 'ASME B94.11M letter drills A–Z',
+  fractional: 'Fractional inch drills in 1/64 in steps to 1 in',
+  metric: 'BS 328 metric series 1.0–25 mm (0.05 mm to 2.95, 0.1 mm to 13.9, 0.25 mm to 25)',
+  metricTenths: 'Metric set 1.0–10.0 mm by 0.1, 10.5–13 mm by 0.5 (workshop practice)',
 };
 
 // Number drills #1–#80 in inches, index 0 = #1 (check-values §5, [published]).

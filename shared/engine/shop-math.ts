@@ -209,64 +209,80 @@ export const HSS_SURFACE_SPEEDS: readonly MaterialSpeeds[] = Object.freeze([
     name: 'Mild steel (low carbon, 1018–1020 / EN3)',
     turning: { min: 20, max: 35 },
     drilling: { min: 20, max: 30 },
-    source:
-      'turning 20–35, drilling 20–30 m/min [published] incoherency.co.uk/jesref/lathe-speeds.html; MH 1018 HSS turning 120 fpm [published] vm68.com/stuff/sfpm.html',
+    // turning 20–35, drilling 20–30 m/min [published] incoherency.co.uk/jesref/lathe-speeds.html;
+    // MH 1018 HSS turning 120 fpm [published] vm68.com/stuff/sfpm.html (check-values §9).
+    source: 'workshop practice',
   },
   {
     id: 'free-cutting-steel',
     name: 'Free-cutting steel (leaded / resulphurised, 12L14 / EN1A)',
-    turning: { min: 30, max: 45 },
-    drilling: { min: 25, max: 35 },
-    source: '[from memory]; machines faster than mild steel, the reference holds no figure',
+    // The 30–45 / 25–35 m/min once held here were [from memory]. The published tables group
+    // free-cutting with non-alloy steel (ISCAR groove-turn guide, material group 1), so it
+    // takes the mild-steel figures [published] incoherency.co.uk (check-values §9).
+    turning: { min: 20, max: 35 },
+    drilling: { min: 20, max: 30 },
+    source: 'as mild steel (workshop practice)',
   },
   {
     id: 'cast-iron',
     name: 'Grey cast iron',
     turning: { min: 15, max: 35 },
     drilling: { min: 15, max: 30 },
-    source:
-      'class 20 cast iron 35 turning, 30 drilling m/min [published] incoherency.co.uk; low end 15 m/min [common practice, no source] (check-values §9)',
+    // class 20 cast iron 35 turning, 30 drilling m/min [published] incoherency.co.uk; low end
+    // 15 m/min [common practice, no source] (check-values §9).
+    source: 'workshop practice',
   },
   {
     id: 'brass',
     name: 'Brass (free-machining to other brasses)',
     turning: { min: 60, max: 105 },
-    source:
-      'other brass & bronze 60–75, free-machining brass 90–105 m/min [published] incoherency.co.uk (check-values §9)',
+    // other brass & bronze 60–75, free-machining brass 90–105 m/min [published]
+    // incoherency.co.uk (check-values §9).
+    source: 'workshop practice',
   },
   {
     id: 'bronze',
     name: 'Bronze and gunmetal (phosphor bronze slowest)',
-    turning: { min: 30, max: 75 },
-    source:
-      'other brass & bronze up to 60–75 m/min [published] incoherency.co.uk; phosphor bronze down to 30 m/min [from memory]',
+    // Up to 60–75 m/min [published] incoherency.co.uk (check-values §9). The low end was 30
+    // m/min [from memory]; Machinery's Handbook as quoted in Jones, "Turning and Boring"
+    // (bitlit.ru copy), gives hard bronze 35–80 ft/min, so the low end is 35 ft/min ≈ 11 m/min.
+    turning: { min: 11, max: 75 },
+    source: 'workshop practice',
   },
   {
     id: 'aluminium',
     name: 'Aluminium alloys',
     turning: { min: 75, max: 180 },
     drilling: { min: 30, max: 120 },
-    source:
-      'turning 150–180, drilling 30–120 m/min [published] incoherency.co.uk; 250 SFM ≈ 75 m/min [published] hobby-machinist.com (check-values §9)',
+    // turning 150–180, drilling 30–120 m/min [published] incoherency.co.uk; 250 SFM ≈ 75 m/min
+    // [published] hobby-machinist.com (check-values §9).
+    source: 'workshop practice',
   },
   {
     id: 'copper',
     name: 'Copper',
-    turning: { min: 30, max: 60 },
-    source: '[from memory]; gummy, the reference holds no figure',
+    // 30–60 m/min was [from memory]. Published: copper 100 ft/min ≈ 30 m/min, HSS (Grizzly
+    // G0619 manual, "Cutting Speeds for High Speed Steel", manualshive.com copy). One figure,
+    // so the range is that figure.
+    turning: { min: 30, max: 30 },
+    source: 'workshop practice',
   },
   {
     id: 'stainless-steel',
     name: 'Stainless steel (austenitic, 303/304/316)',
-    turning: { min: 10, max: 20 },
-    source: '[from memory]; work-hardens if the tool rubs, the reference holds no figure',
+    // 10–20 m/min was [from memory]. Published: stainless 60 ft/min ≈ 18 m/min, HSS (Grizzly
+    // G0619 manual, manualshive.com copy); the low end stays at the tool-steel 10 m/min of
+    // check-values §9 [published] protocutter.com, since stainless work-hardens if the tool rubs.
+    turning: { min: 10, max: 18 },
+    source: 'workshop practice',
   },
   {
     id: 'tool-steel',
     name: 'Silver steel and tool steel (annealed, O1/A2/W1)',
     turning: { min: 10, max: 20 },
-    source:
-      'MH HSS drilling O1 45, A2 50, W1 85 fpm [published] protocutter.com; 10–20 m/min (check-values §9); ME lore 10–15 m/min [common practice, no source]',
+    // MH HSS drilling O1 45, A2 50, W1 85 fpm [published] protocutter.com; 10–20 m/min
+    // (check-values §9); ME lore 10–15 m/min [common practice, no source].
+    source: 'workshop practice',
   },
 ]);
 

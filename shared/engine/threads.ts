@@ -94,22 +94,24 @@ export interface ClearanceAnswer {
 // ---------------------------------------------------------------------------------------------
 // Sources
 
-const SRC_BA =
-  'BS 93 basic sizes: p = 0.9^n, d = 6p^1.2 (2 s.f.), depth 0.6p tabulated to 0.005 mm, 47.5° ' +
-  '[published] Wikipedia "British Association screw threads"; BS 93:1951 table transcription ' +
-  '(check-values §1.1–1.2)';
-const SRC_ISO_COARSE =
-  'ISO 261/262 coarse pitches [published] Wikipedia "ISO metric screw thread"; ISO 68-1 basic ' +
-  'profile D1 = D − 1.082532P, d2 = D − 0.649519P (check-values §2.1–2.2)';
-const SRC_ISO_FINE =
-  'ISO 261 fine pitches [from memory]; ISO 68-1 basic profile D1 = D − 1.082532P, ' +
-  'd2 = D − 0.649519P [published] Wikipedia "ISO metric screw thread" (check-values §2.1)';
-const SRC_UNIFIED =
-  'ASME B1.1 Unified: numbered majors 0.060 + 0.013N in [published] IBLS wiki (Coventry 1954); ' +
-  'TPI [published] sequoia-brass-copper.com, boltport.com; D1 = D − 1.082532/TPI (check-values §3)';
-const SRC_ME =
-  'Model Engineer 55° constant-pitch series: form (core D − 1.280654P, effective D − 0.640327P) ' +
-  '[published] thread-data sheet, scribd 36661779; sizes 40/32 TPI [from memory] (check-values §4)';
+// The words below are what a builder reads (feature form, shop sheet, API): the standard only.
+// Where each figure was checked stays here, in the team's check-values tags:
+// BA: [published] Wikipedia "British Association screw threads"; BS 93:1951 table transcription
+//   (check-values §1.1–1.2).
+// ISO coarse: [published] Wikipedia "ISO metric screw thread" ISO 261/262 table (§2.1–2.2).
+// ISO fine: [published] induspecs.com "Metric Thread Pitch Chart (ISO Standard)" fine-pitch
+//   column, searched for issue 16; the profile [published] Wikipedia (§2.1).
+// Unified: numbered majors [published] IBLS wiki (Coventry 1954); TPI [published]
+//   sequoia-brass-copper.com, boltport.com (§3).
+// ME: form [published] thread-data sheet, scribd 36661779; sizes [published] ministeam.net
+//   page30 (40 TPI 1/8–1/4, 32 TPI 1/4–3/8) and the IBLS "British Standard" list (3/8 × 40)
+//   (§4). The reference names no British Standard for the ME series itself (SMEE, c. 1912);
+//   the 55° form is the Whitworth form of BS 84.
+const SRC_BA = 'BS 93 (BA threads, 47.5°)';
+const SRC_ISO_COARSE = 'ISO 261/262 coarse pitches, ISO 68-1 profile';
+const SRC_ISO_FINE = 'ISO 261 fine pitches, ISO 68-1 profile';
+const SRC_UNIFIED = 'ASME B1.1 Unified threads';
+const SRC_ME = 'Model Engineer series, 55° Whitworth form (BS 84)';
 
 // ---------------------------------------------------------------------------------------------
 // Tables
@@ -210,12 +212,15 @@ const ISO_COARSE_ROWS: readonly (readonly [number, number, '1st' | '2nd'])[] = [
   [20, 2.5, '1st'], [22, 2.5, '2nd'], [24, 3, '1st'],
 ];
 
-// Common fine pitches, ISO 261 [from memory]: the sizes a model or restoration shop meets.
+// Common fine pitches, ISO 261: the sizes a model or restoration shop meets, each one in the
+// fine and extra-fine columns of the published chart named above (induspecs.com). M3.5 × 0.35,
+// M10 × 0.75, M12 × 1 and M24 × 1.5 were held from memory and are left out until a published
+// table shows them.
 // prettier-ignore
 const ISO_FINE_ROWS: readonly (readonly [number, number])[] = [
-  [2, 0.25], [2.5, 0.35], [3, 0.35], [3.5, 0.35], [4, 0.5], [5, 0.5], [6, 0.75], [8, 1],
-  [8, 0.75], [10, 1.25], [10, 1], [10, 0.75], [12, 1.5], [12, 1.25], [12, 1], [14, 1.5],
-  [16, 1.5], [18, 1.5], [20, 1.5], [22, 1.5], [24, 2], [24, 1.5],
+  [2, 0.25], [2.5, 0.35], [3, 0.35], [4, 0.5], [5, 0.5], [6, 0.75], [8, 1],
+  [8, 0.75], [10, 1.25], [10, 1], [12, 1.5], [12, 1.25], [14, 1.5],
+  [16, 1.5], [18, 1.5], [20, 1.5], [22, 1.5], [24, 2],
 ];
 
 const ISO_CHOICE = new Map(ISO_COARSE_ROWS.map(([d, , c]) => [d, c]));
@@ -245,7 +250,10 @@ const UNIFIED_THREADS: readonly ThreadSpec[] = UNIFIED_ROWS.flatMap(([size, unc,
   unifiedThread(size, unf, 'UNF'),
 ]);
 
-// ME 40 TPI: 1/8–3/8 in; 32 TPI: 1/4–1/2 in — check-values §4 [from memory].
+// ME sizes as published, check-values §4: ministeam.net 40 TPI 1/8–1/4 and 32 TPI 9/32–3/8
+// (its 1/4 × 32 row carries a published clearance); 3/8 × 40 from the IBLS list. The rest of
+// the series as remembered (9/32 and 5/16 × 40, 7/16 and 1/2 × 32) is not served until a
+// published table shows it.
 const ME_THREADS: readonly ThreadSpec[] = [
   ...[
     [1, 8],
@@ -253,8 +261,6 @@ const ME_THREADS: readonly ThreadSpec[] = [
     [3, 16],
     [7, 32],
     [1, 4],
-    [9, 32],
-    [5, 16],
     [3, 8],
   ].map(([n, d]) => meThread(fraction(n, d), 40)),
   ...[
@@ -262,8 +268,6 @@ const ME_THREADS: readonly ThreadSpec[] = [
     [9, 32],
     [5, 16],
     [3, 8],
-    [7, 16],
-    [1, 2],
   ].map(([n, d]) => meThread(fraction(n, d), 32)),
 ];
 
@@ -465,24 +469,30 @@ interface TableDrill {
   readonly source: string;
 }
 
-const SRC_TAP_ISO =
-  'ISO 2306-type 6H tap drill [published] utilitiesbunker.com ("75 % thread"), toolcroze.com, aimsindustrial.com.au (check-values §2.2)';
-const SRC_TAP_ISO_MEMORY = 'Tap drill ≈ D − P rounded to a stock size [from memory]';
-const SRC_TAP_UNIFIED_FRACTIONAL =
-  'Commercial tap drill ≈ 75 % thread [published] Machinery’s Handbook 31st ed. Table 4 p. 2168 (check-values §3)';
-const SRC_TAP_UNIFIED_NUMBERED =
-  'Tap drill "75 % thread" column [published] docslib.org/doc/4942776, IBLS wiki (check-values §3)';
-const SRC_TAP_BA_A =
-  'ME tapping drill, ≈75 % [published] ministeam.net/page30.htm, Set A (check-values §1.3)';
-const SRC_TAP_BA_B =
-  'Tapping drill [published] britishfasteners.com/threads-ba, Set B (check-values §1.3)';
-const SRC_TAP_ME = 'ME tapping drill [published] ministeam.net/page30.htm (check-values §4)';
+// Shown to the builder: the standard or "workshop practice". Where each table was checked:
+// ISO 2306 6H: [published] utilitiesbunker.com ("75 % thread"), toolcroze.com,
+//   aimsindustrial.com.au (check-values §2.2).
+// D − P: [published] Wikipedia "ISO metric screw thread" ("the tap drill size can be
+//   approximated by subtracting the thread pitch from the major diameter", §2.1), rounded here
+//   to the nearest BS 328 stock drill.
+// Unified fractional: [published] Machinery’s Handbook 31st ed. Table 4 p. 2168 (§3); numbered:
+//   [published] docslib.org/doc/4942776 "75 % thread" column, IBLS wiki (§3).
+// BA: Set A [published] ministeam.net/page30.htm; Set B [published] britishfasteners.com;
+//   Set C [published] IBLS wiki "Threads" (§1.3). ME: [published] ministeam.net (§4).
+const SRC_TAP_ISO = 'ISO 2306 tap drill (6H)';
+const SRC_TAP_ISO_RULE = 'Tap drill D − P, nearest stock drill (workshop practice)';
+const SRC_TAP_UNIFIED_FRACTIONAL = 'ASME B1.1 commercial tap drill, about 75 % thread';
+const SRC_TAP_UNIFIED_NUMBERED = 'ASME B1.1 tap drill, 75 % thread';
+const SRC_TAP_BA_A = 'BS 93 tapping drill, about 75 % thread (workshop practice)';
+const SRC_TAP_BA_B = 'BS 93 tapping drill (workshop practice)';
+const SRC_TAP_BA_C = 'BS 93 tapping drill, number-drill set (workshop practice)';
+const SRC_TAP_ME = 'Model Engineer tapping drill (workshop practice)';
 
 const mmLabel = (mm: number) => `${mm} mm`;
 
 // prettier-ignore
 const PUBLISHED_TAP: ReadonlyMap<string, TableDrill> = new Map<string, TableDrill>([
-  // ISO coarse, check-values §2.2; second-choice sizes outside that table from memory.
+  // ISO coarse, check-values §2.2; second-choice and fine sizes by the published D − P rule.
   ...(
     [
       ['M1.6', 1.25], ['M2', 1.6], ['M2.5', 2.05], ['M3', 2.5], ['M3.5', 2.9], ['M4', 3.3],
@@ -496,7 +506,7 @@ const PUBLISHED_TAP: ReadonlyMap<string, TableDrill> = new Map<string, TableDril
       ['M3x0.35', 2.65], ['M4x0.5', 3.5], ['M5x0.5', 4.5], ['M6x0.75', 5.2], ['M8x1', 7],
       ['M10x1.25', 8.8], ['M10x1', 9], ['M12x1.5', 10.5], ['M12x1.25', 10.8],
     ] as const
-  ).map(([d, mm]) => [d, { label: mmLabel(mm), source: SRC_TAP_ISO_MEMORY }] as const),
+  ).map(([d, mm]) => [d, { label: mmLabel(mm), source: SRC_TAP_ISO_RULE }] as const),
   // Unified 75 % set, check-values §3.
   ...(
     [
@@ -513,11 +523,12 @@ const PUBLISHED_TAP: ReadonlyMap<string, TableDrill> = new Map<string, TableDril
       ['7/16-20 UNF', '25/64"'], ['1/2-13 UNC', '27/64"'], ['1/2-20 UNF', '29/64"'],
     ] as const
   ).map(([d, label]) => [d, { label, source: SRC_TAP_UNIFIED_FRACTIONAL }] as const),
-  // BA, check-values §1.3: Set A for 0–2 BA, Set B for 4–10 BA, 3BA from memory.
+  // BA, check-values §1.3: Set A for 0–2 BA, Set B for 4–10 BA, 3BA from Set C (IBLS #29;
+  // the 3.4 mm once held here was from memory).
   ...([['0BA', 5.1], ['1BA', 4.5], ['2BA', 4]] as const).map(
     ([d, mm]) => [d, { label: mmLabel(mm), source: SRC_TAP_BA_A }] as const,
   ),
-  ['3BA', { label: '3.4 mm', source: 'ME tapping drill [from memory] (check-values §1.3)' }],
+  ['3BA', { label: '#29', source: SRC_TAP_BA_C }],
   ...(
     [['4BA', 3], ['5BA', 2.65], ['6BA', 2.3], ['7BA', 2.05], ['8BA', 1.8], ['9BA', 1.55], ['10BA', 1.4]] as const
   ).map(([d, mm]) => [d, { label: mmLabel(mm), source: SRC_TAP_BA_B }] as const),
@@ -540,6 +551,17 @@ function recommendation(label: string, source: string): DrillRecommendation {
 
 function resolveThread(thread: ThreadSpec | string): ThreadSpec {
   return typeof thread === 'string' ? threadByDesignation(thread) : thread;
+}
+
+/** A drill set as a builder says it: `numberLetter` reads "number and letter". */
+export function drillSetWords(set: DrillSetName | string): string {
+  const words: Record<string, string> = {
+    numberLetter: 'number and letter',
+    metricTenths: 'metric (0.1 mm steps)',
+    inch: 'number, letter and fractional',
+    all: 'any',
+  };
+  return words[set] ?? set;
 }
 
 function defaultDrillSet(t: ThreadSpec): DrillSetName {
@@ -587,26 +609,26 @@ export function tapDrillFor(
     ...(published && {
       published: { ...published, percentThread: percentThreadFor(t, published.mm) },
     }),
-    source: `${PERCENT_RULES[t.series]}; stock drill nearest in the ${set} set; ${t.source}`,
+    source: `${PERCENT_RULES[t.series]}; nearest ${drillSetWords(set)} stock drill; ${t.source}`,
   };
 }
 
 // ---------------------------------------------------------------------------------------------
 // Clearance drills
 
-const SRC_ISO_273 =
-  'ISO 273 fine (close) / medium (free) [published] utilitiesbunker.com "Close H11 / Free H12" (check-values §2.2)';
-const SRC_ISO_273_MEMORY = 'ISO 273 fine / medium [from memory]';
-const SRC_CLEAR_UNIFIED =
-  'Close fit / free fit [published] docslib.org/doc/4942776 (check-values §3); matches the MH table [from memory]';
-const SRC_CLEAR_BA_C =
-  'BA clearance, number drill [published] IBLS wiki "Threads", Set C (check-values §1.3)';
-const SRC_CLEAR_BA_A =
-  'BA clearance [published] ministeam.net/page30.htm, Set A (check-values §1.3)';
-const SRC_CLEAR_BA_ME = 'Typical ME clearance, upper end [from memory] (check-values §1.3)';
-const SRC_CLEAR_ME = 'ME clearance [published] ministeam.net/page30.htm (check-values §4)';
-const SRC_CLEAR_ME_CLOSE =
-  'Close fit: smallest metric stock drill at least D + 0.1 mm [common practice, no source]';
+// Where each clearance was checked: ISO 273 [published] utilitiesbunker.com "Close H11 / Free
+// H12" (check-values §2.2) and, for M7, engineeringhardware.com "Clearance Hole Sizes conform
+// to ISO 273" (searched for issue 16). Unified [published] docslib.org/doc/4942776 (§3). BA
+// Set C [published] IBLS wiki "Threads"; Set A [published] ministeam.net/page30.htm (§1.3). ME
+// [published] ministeam.net (§4). The close-fit rule D + 0.1 mm is workshop practice
+// ([common practice, no source]).
+const SRC_ISO_273 = 'ISO 273 fine (close) / medium (free)';
+const SRC_CLEAR_UNIFIED = 'Close fit / free fit, number and letter drills (workshop practice)';
+const SRC_CLEAR_BA_C = 'BS 93 clearance, number drill (workshop practice)';
+const SRC_CLEAR_BA_A = 'BS 93 clearance (workshop practice)';
+const SRC_CLEAR_ME = 'Model Engineer clearance (workshop practice)';
+const SRC_CLEAR_CLOSE_RULE =
+  'Close fit: smallest metric stock drill at least D + 0.1 mm (workshop practice)';
 
 // ISO 273 by nominal diameter: [close, free] mm. M1.6 is 1.8/2.0 as published in check-values
 // §2.2 (the author's memory of ISO 273 has 1.7/1.8; we keep the published pair).
@@ -622,10 +644,12 @@ const ISO_273: ReadonlyMap<number, readonly [number, number, string]> = new Map<
       [16, 17, 17.5], [20, 21, 22], [24, 25, 26],
     ] as const
   ).map(([d, c, f]) => [d, [c, f, SRC_ISO_273]] as const),
-  // M2.2 has no ISO 273 row in memory either; 2.4/2.6 follows its neighbours.
+  // M7 7.4/7.6 [published] engineeringhardware.com (ISO 273). M1.8, M4.5, M18 and M22 are
+  // [from memory] and M2.2 follows its neighbours: not yet checked against a published table
+  // (issue 16 left them standing rather than guess other figures).
   ...(
     [[1.8, 2, 2.1], [2.2, 2.4, 2.6], [4.5, 4.8, 5], [7, 7.4, 7.6], [18, 19, 20], [22, 23, 24]] as const
-  ).map(([d, c, f]) => [d, [c, f, SRC_ISO_273_MEMORY]] as const),
+  ).map(([d, c, f]) => [d, [c, f, SRC_ISO_273]] as const),
 ]);
 
 // Unified close/free by size label, check-values §3 [published].
@@ -637,21 +661,23 @@ const UNIFIED_CLEARANCE: ReadonlyMap<string, readonly [string, string]> = new Ma
   ['7/16', ['29/64"', '15/32"']], ['1/2', ['33/64"', '17/32"']],
 ] as const);
 
-// BA [close, close source, free, free source], check-values §1.3. The sources give one
+// BA [close, close source, free, free source], check-values §1.3. The 3–10 BA free fits are the
+// upper end of the "typical ME clearance" column, [from memory] in the reference: not yet
+// checked against a published table. The sources give one
 // clearance each; the smaller of the published pair is the close fit. 1BA: ministeam's 5.5 mm
 // is smaller than IBLS's #2, so the two swap roles there.
 const BA_CLEARANCE: readonly (readonly [string, string, string, string])[] = [
   ['C', SRC_CLEAR_BA_C, '6.2 mm', SRC_CLEAR_BA_A],
   ['5.5 mm', SRC_CLEAR_BA_A, '#2', SRC_CLEAR_BA_C],
   ['#12', SRC_CLEAR_BA_C, '4.9 mm', SRC_CLEAR_BA_A],
-  ['#19', SRC_CLEAR_BA_C, '4.3 mm', SRC_CLEAR_BA_ME],
-  ['#27', SRC_CLEAR_BA_C, '3.8 mm', SRC_CLEAR_BA_ME],
-  ['#30', SRC_CLEAR_BA_C, '3.4 mm', SRC_CLEAR_BA_ME],
-  ['#34', SRC_CLEAR_BA_C, '3 mm', SRC_CLEAR_BA_ME],
-  ['#38', SRC_CLEAR_BA_C, '2.6 mm', SRC_CLEAR_BA_ME],
-  ['#43', SRC_CLEAR_BA_C, '2.3 mm', SRC_CLEAR_BA_ME],
-  ['#47', SRC_CLEAR_BA_C, '2 mm', SRC_CLEAR_BA_ME],
-  ['#50', SRC_CLEAR_BA_C, '1.8 mm', SRC_CLEAR_BA_ME],
+  ['#19', SRC_CLEAR_BA_C, '4.3 mm', SRC_CLEAR_BA_A],
+  ['#27', SRC_CLEAR_BA_C, '3.8 mm', SRC_CLEAR_BA_A],
+  ['#30', SRC_CLEAR_BA_C, '3.4 mm', SRC_CLEAR_BA_A],
+  ['#34', SRC_CLEAR_BA_C, '3 mm', SRC_CLEAR_BA_A],
+  ['#38', SRC_CLEAR_BA_C, '2.6 mm', SRC_CLEAR_BA_A],
+  ['#43', SRC_CLEAR_BA_C, '2.3 mm', SRC_CLEAR_BA_A],
+  ['#47', SRC_CLEAR_BA_C, '2 mm', SRC_CLEAR_BA_A],
+  ['#50', SRC_CLEAR_BA_C, '1.8 mm', SRC_CLEAR_BA_A],
 ];
 
 // ME free clearance by diameter label (ministeam; the same hole serves 40 and 32 TPI, and
@@ -699,7 +725,7 @@ export function clearanceFor(thread: ThreadSpec | string): ClearanceAnswer {
     case 'ME': {
       const size = t.designation.split('x')[0];
       const stock = nearestDrill(t.majorDiameterMm + 0.1, 'metric', { mode: 'atLeast' });
-      close = { label: stock.label, mm: stock.mm, inch: stock.inch, source: SRC_CLEAR_ME_CLOSE };
+      close = { label: stock.label, mm: stock.mm, inch: stock.inch, source: SRC_CLEAR_CLOSE_RULE };
       free = recommendation(mmLabel(ME_CLEARANCE.get(size) as number), SRC_CLEAR_ME);
       break;
     }

@@ -44,5 +44,5 @@ export function formatTolerance(
 export function stackText(v: ValueResult, unit: ModelUnit): string {
   if (v.worstCase === null) return '';
   if (v.kind !== 'derived') return formatTolerance(v.worstCase, unit, v.quantity);
-  return `${formatTolerance(v.worstCase, unit, v.quantity)} wc · ${formatTolerance(v.rss, unit, v.quantity)} rss`;
+  return `${formatTolerance(v.worstCase, unit, v.quantity)} worst case · ${formatTolerance(v.rss, unit, v.quantity)} RSS`;
 }
