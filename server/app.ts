@@ -8,7 +8,7 @@ import { requireCsrf, requireUser, sessionMiddleware } from './auth/session';
 import type { Database } from './db/client';
 import { errorHandler, notFound } from './http/errors';
 import type { Mailer } from './mail/mailer';
-import { authRoutes } from './routes/auth';
+import { authRoutes, type AuthLimits } from './routes/auth';
 import { devMailRoutes } from './routes/dev-mail';
 import { engineRoutes } from './routes/engine';
 import { healthRoutes } from './routes/health';
@@ -16,7 +16,7 @@ import { modelRoutes } from './routes/models';
 import { projectRoutes } from './routes/projects';
 import { sheetRoutes } from './routes/sheets';
 import { bundleRoutes } from './routes/bundle';
-import { invitationLinkRoutes, teamRoutes } from './routes/team';
+import { invitationLinkRoutes, teamRoutes, type InvitationLimits } from './routes/team';
 import { shopSheetRoutes } from './routes/shop-sheet';
 import { createActivityService } from './services/activity';
 import { createAuthService } from './services/auth';
@@ -55,6 +55,10 @@ export interface AppDeps {
   logLevel?: 'silent' | 'error' | 'warn' | 'info' | 'debug';
   /** Solves one user may ask for a minute (default 120). */
   solvesPerMinute?: number;
+  /** Sign-in and registration limits per client address and e-mail (defaults in routes/auth). */
+  authLimits?: Partial<AuthLimits>;
+  /** Invitations and resends per project and per address (defaults in routes/team). */
+  invitationLimits?: Partial<InvitationLimits>;
   /** Where request logs go (default standard output). */
   logStream?: NodeJS.WritableStream;
 }
@@ -164,7 +168,7 @@ export function createApp(deps: AppDeps): Express {
   api.use('/health', healthRoutes(db));
   api.use(sessionMiddleware({ pool, secret: deps.sessionSecret, secure: deps.production }));
   api.use(requireCsrf);
-  api.use('/auth', authRoutes(db, auth));
+  api.use('/auth', authRoutes(db, auth, deps.authLimits));
   api.use(engineRoutes(db, { solvesPerMinute: deps.solvesPerMinute }));
   api.use('/invitations', invitationLinkRoutes(db, invitations));
   api.use(
@@ -202,7 +206,7 @@ export function createApp(deps: AppDeps): Express {
       }),
     ),
     sheetRoutes(db, sheets, { maxBytes: uploadMaxBytes, tempDir: deps.uploadTempDir }),
-    teamRoutes(db, team),
+    teamRoutes(db, team, deps.invitationLimits),
     // A bundle carries every file of a project: up to 20 uploads' worth.
     bundleRoutes(db, createBundleService({ db, storage, models, sheets, ...team }), {
       maxBytes: uploadMaxBytes * 20,

@@ -1,11 +1,13 @@
-import { Router, type RequestHandler } from 'express';
+import { Router, type Request, type RequestHandler } from 'express';
 import { ipKeyGenerator, rateLimit, type RateLimitInfo } from 'express-rate-limit';
 import {
+  emailConfirmBody,
   loginBody,
   passwordResetBody,
   passwordResetConfirmBody,
   passwordResetMessage,
   registerBody,
+  registerMessage,
 } from '@shared/api';
 import {
   destroySession,
@@ -20,25 +22,48 @@ import { AppError } from '../http/errors';
 import { validate } from '../http/validate';
 import type { AuthService } from '../services/auth';
 
+export interface AuthLimits {
+  /** Failed sign-ins from one client address, whatever the e-mail, in 15 minutes. */
+  signInFailuresPerClient: number;
+  /** Registrations from one client address in an hour. */
+  registrationsPerClient: number;
+  /** Registrations naming one e-mail, from anywhere, in an hour (each one mails it). */
+  registrationsPerAddress: number;
+}
+
+// One client address: `req.ip`, which honours TRUST_PROXY (the `trust proxy` setting).
+// A bcrypt check costs about 270 ms of a core at the default cost: 30 failures are 8 s of CPU.
+export const defaultAuthLimits: AuthLimits = {
+  signInFailuresPerClient: 30,
+  registrationsPerClient: 10,
+  registrationsPerAddress: 3,
+};
+
+const client = (req: Request) => ipKeyGenerator(req.ip ?? '');
+const address = (req: Request) => String(req.body?.email ?? '').toLowerCase();
+
 /**
- * Counts attempts per address and account (only failed ones when `onlyFailures`) in a
- * 15-minute window; answers 429 with Retry-After past the limit.
+ * Counts attempts per key (only failed ones when `onlyFailures`) in a window; answers 429
+ * with Retry-After past the limit.
  */
 function attemptLimiter(
   db: Db,
   prefix: string,
-  limit: number,
-  onlyFailures: boolean,
+  options: {
+    limit: number;
+    windowMs?: number;
+    onlyFailures?: boolean;
+    key: (req: Request) => string;
+  },
 ): RequestHandler {
   return rateLimit({
-    windowMs: 15 * 60_000,
-    limit,
-    skipSuccessfulRequests: onlyFailures,
+    windowMs: options.windowMs ?? 15 * 60_000,
+    limit: options.limit,
+    skipSuccessfulRequests: options.onlyFailures ?? false,
     standardHeaders: 'draft-8',
     legacyHeaders: false,
     store: new PostgresRateLimitStore(db, prefix),
-    keyGenerator: (req) =>
-      `${ipKeyGenerator(req.ip ?? '')}|${String(req.body?.email ?? '').toLowerCase()}`,
+    keyGenerator: options.key,
     handler: (req, _res, next) => {
       const info = (req as typeof req & { rateLimit?: RateLimitInfo }).rateLimit;
       const resetTime = info?.resetTime?.getTime() ?? Date.now() + 60_000;
@@ -56,8 +81,13 @@ function attemptLimiter(
   });
 }
 
-export function authRoutes(db: Db, auth: AuthService): Router {
+export function authRoutes(db: Db, auth: AuthService, limits: Partial<AuthLimits> = {}): Router {
   const router = Router();
+  const { signInFailuresPerClient, registrationsPerClient, registrationsPerAddress } = {
+    ...defaultAuthLimits,
+    ...limits,
+  };
+  const hour = 3600_000;
 
   router.get('/session', async (req, res) => {
     let changed = false;
@@ -74,26 +104,61 @@ export function authRoutes(db: Db, auth: AuthService): Router {
     res.json({ user, csrfToken: req.session.csrfToken });
   });
 
-  router.post('/register', validate({ body: registerBody }), async (req, res) => {
-    const user = await auth.register(req.body);
+  /** A session for the account: a new id and CSRF token, as at every change of who is in. */
+  async function signIn(req: Request, userId: string) {
     await regenerateSession(req);
-    req.session.userId = user.id;
+    req.session.userId = userId;
     req.session.csrfToken = newCsrfToken();
     await saveSession(req);
-    res.status(201).json({ user, csrfToken: req.session.csrfToken });
+    return req.session.csrfToken;
+  }
+
+  // 201 and a session only for an invitation link sent to this address; otherwise 202 and the
+  // same body whether or not the address has an account (see the service).
+  router.post(
+    '/register',
+    validate({ body: registerBody }),
+    attemptLimiter(db, 'register-client', {
+      limit: registrationsPerClient,
+      windowMs: hour,
+      key: client,
+    }),
+    attemptLimiter(db, 'register-address', {
+      limit: registrationsPerAddress,
+      windowMs: hour,
+      key: address,
+    }),
+    async (req, res) => {
+      const user = await auth.register(req.body);
+      if (!user) {
+        res.status(202).json({ message: registerMessage });
+        return;
+      }
+      res.status(201).json({ user, csrfToken: await signIn(req, user.id) });
+    },
+  );
+
+  router.post('/confirm-email', validate({ body: emailConfirmBody }), async (req, res) => {
+    const user = await auth.confirmEmail(req.body.token);
+    res.json({ user, csrfToken: await signIn(req, user.id) });
   });
 
   router.post(
     '/login',
-    attemptLimiter(db, 'login', 10, true),
+    attemptLimiter(db, 'login-client', {
+      limit: signInFailuresPerClient,
+      onlyFailures: true,
+      key: client,
+    }),
+    attemptLimiter(db, 'login', {
+      limit: 10,
+      onlyFailures: true,
+      key: (req) => `${client(req)}|${address(req)}`,
+    }),
     validate({ body: loginBody }),
     async (req, res) => {
       const user = await auth.login(req.body);
-      await regenerateSession(req);
-      req.session.userId = user.id;
-      req.session.csrfToken = newCsrfToken();
-      await saveSession(req);
-      res.json({ user, csrfToken: req.session.csrfToken });
+      res.json({ user, csrfToken: await signIn(req, user.id) });
     },
   );
 
@@ -104,7 +169,10 @@ export function authRoutes(db: Db, auth: AuthService): Router {
 
   router.post(
     '/password-reset',
-    attemptLimiter(db, 'reset', 5, false),
+    attemptLimiter(db, 'reset', {
+      limit: 5,
+      key: (req) => `${client(req)}|${address(req)}`,
+    }),
     validate({ body: passwordResetBody }),
     async (req, res) => {
       await auth.requestPasswordReset(req.body.email);

@@ -1,4 +1,5 @@
-import { Router, type Request } from 'express';
+import { Router, type Request, type RequestHandler } from 'express';
+import { rateLimit, type RateLimitInfo } from 'express-rate-limit';
 import {
   activityQuery,
   checkBody,
@@ -17,8 +18,9 @@ import {
 import { anyMember, requireProjectRole, type ProjectAccess } from '../auth/roles';
 import { requireUser } from '../auth/session';
 import type { Db } from '../db/client';
+import { PostgresRateLimitStore } from '../db/rate-limit-store';
 import { findUserById } from '../db/users';
-import { unauthenticated } from '../http/errors';
+import { AppError, unauthenticated } from '../http/errors';
 import { validate } from '../http/validate';
 import type { ActivityService } from '../services/activity';
 import type { CheckService } from '../services/checks';
@@ -44,14 +46,85 @@ async function me(db: Db, req: Request) {
   return { id: user.id, name: user.name };
 }
 
+export interface InvitationLimits {
+  /** Invitations and resends one project sends in an hour. */
+  perProject: number;
+  /** Invitations and resends to one address, from every project together, in a day. */
+  perAddress: number;
+}
+
+// Each one mails an address the sender chose: the limits keep our sender from being used to
+// flood one inbox (owning a project is free) or to mail a list.
+export const defaultInvitationLimits: InvitationLimits = { perProject: 30, perAddress: 5 };
+
+/** Counts invitations sent (refusals do not count); 429 with Retry-After past the limit. */
+function sendLimiter(
+  db: Db,
+  prefix: string,
+  limit: number,
+  windowMs: number,
+  key: (req: Request) => string | Promise<string>,
+  message: string,
+): RequestHandler {
+  return rateLimit({
+    windowMs,
+    limit,
+    skipFailedRequests: true,
+    standardHeaders: 'draft-8',
+    legacyHeaders: false,
+    store: new PostgresRateLimitStore(db, prefix),
+    keyGenerator: key,
+    handler: (req, _res, next) => {
+      const info = (req as typeof req & { rateLimit?: RateLimitInfo }).rateLimit;
+      const resetTime = info?.resetTime?.getTime() ?? Date.now() + windowMs;
+      const seconds = Math.max(1, Math.ceil((resetTime - Date.now()) / 1000));
+      next(
+        new AppError(
+          'rate_limited',
+          message,
+          429,
+          { retryAfterSeconds: seconds },
+          {
+            'Retry-After': String(seconds),
+          },
+        ),
+      );
+    },
+  });
+}
+
 const reviewers: ProjectRole[] = ['owner', 'editor', 'checker'];
 const checkers: ProjectRole[] = ['owner', 'checker'];
 
 /** Team and review routes under /api/projects/:projectId. */
-export function teamRoutes(db: Db, s: TeamServices): Router {
+export function teamRoutes(
+  db: Db,
+  s: TeamServices,
+  limits: Partial<InvitationLimits> = {},
+): Router {
   const router = Router();
   const params = validate({ params: projectId });
   const owners = requireProjectRole(db, ['owner']);
+  const { perProject, perAddress } = { ...defaultInvitationLimits, ...limits };
+  const hour = 3600_000;
+  const perProjectLimit = sendLimiter(
+    db,
+    'invite-project',
+    perProject,
+    hour,
+    (req) => String(req.params.projectId),
+    'This project has sent many invitations in the last hour. Try again later.',
+  );
+  // Both routes count into the same counters (one store prefix), so a resend is an invitation.
+  const perAddressLimit = (address: (req: Request) => Promise<string>) =>
+    sendLimiter(
+      db,
+      'invite-address',
+      perAddress,
+      24 * hour,
+      address,
+      'That address has been sent many invitations today. Try again tomorrow.',
+    );
 
   router.get('/:projectId/invitations', params, owners, async (_req, res) => {
     res.json({ invitations: await s.invitations.list(access(res.locals).project.id) });
@@ -61,6 +134,8 @@ export function teamRoutes(db: Db, s: TeamServices): Router {
     params,
     owners,
     validate({ body: invitationBody }),
+    perProjectLimit,
+    perAddressLimit(async (req) => String(req.body.email)),
     async (req, res) => {
       const { project } = access(res.locals);
       res
@@ -87,6 +162,14 @@ export function teamRoutes(db: Db, s: TeamServices): Router {
     '/:projectId/invitations/:invitationId/resend',
     validate({ params: invitationParams }),
     owners,
+    perProjectLimit,
+    perAddressLimit(
+      async (req) =>
+        (await s.invitations.addressOf(
+          String(req.params.projectId),
+          String(req.params.invitationId),
+        )) ?? `unknown:${String(req.params.invitationId)}`,
+    ),
     async (req, res) => {
       res.json(
         await s.invitations.resend(

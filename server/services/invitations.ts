@@ -3,9 +3,11 @@ import type { Invitation, InvitationPreview, ProjectRole } from '@shared/api';
 import type { Db } from '../db/client';
 import { listMembers, upsertMembership } from '../db/projects';
 import * as repo from '../db/team';
-import { AppError, conflict, notFound } from '../http/errors';
+import { findUserById } from '../db/users';
+import { AppError, conflict, forbidden, notFound } from '../http/errors';
 import type { Mailer } from '../mail/mailer';
 import type { ActivityService } from './activity';
+import { mailAddressConfirmation } from './auth';
 
 const lifetimeMs = 7 * 24 * 3600_000;
 const hashToken = (token: string) => createHash('sha256').update(token).digest('hex');
@@ -57,7 +59,9 @@ export function createInvitationService(deps: {
     const link = `${appUrl}/invitations/${token}`;
     await mailer.send({
       to,
-      subject: `${inviter} invites you to “${projectName}” on Fairsheet`,
+      // Our words only: a subject the inviter could write would let anyone send phishing
+      // under our name. Their name and the project's stay in the body, quoted.
+      subject: 'An invitation to a project on Fairsheet',
       text:
         `${inviter} has invited you to the Fairsheet project “${projectName}” as ${roleWords[role]}.\n\n` +
         `Open this link to sign in or create an account and join. It works once, for 7 days.\n\n${link}\n\n` +
@@ -95,6 +99,11 @@ export function createInvitationService(deps: {
         summary: `invited ${email} as ${role}`,
       });
       return toInvitation({ ...row, invitedBy: inviter.name });
+    },
+
+    /** The address a project's invitation was sent to; undefined when there is none. */
+    async addressOf(projectId: string, id: string): Promise<string | undefined> {
+      return (await repo.findInvitation(db, projectId, id))?.email;
     },
 
     async list(projectId: string): Promise<Invitation[]> {
@@ -148,7 +157,11 @@ export function createInvitationService(deps: {
       };
     },
 
-    /** Adds the signed-in person to the project; a used, revoked or expired link answers 410. */
+    /**
+     * Adds the signed-in person to the project when their account's confirmed address is the
+     * one invited (403 otherwise, and the invitation stays for its owner); a used, revoked or
+     * expired link answers 410.
+     */
     async accept(token: string, user: { id: string; name: string }) {
       const row = await repo.findInvitationByToken(db, hashToken(token));
       if (!row) throw notFound('That invitation');
@@ -162,6 +175,17 @@ export function createInvitationService(deps: {
         throw gone(
           'This invitation has expired (they last 7 days). Ask the project owner to send it again.',
         );
+      const account = await findUserById(db, user.id);
+      if (!account || account.email !== row.email)
+        throw forbidden(
+          `This invitation is for ${row.email}. Sign in with that address (or create an account with it) to accept.`,
+        );
+      if (!account.emailVerifiedAt) {
+        await mailAddressConfirmation({ db, mailer, appUrl }, account);
+        throw forbidden(
+          `Confirm that ${row.email} is yours first: we have mailed a link to it. Open the link, then accept again.`,
+        );
+      }
       return db.transaction(async (tx) => {
         if (!(await repo.acceptInvitation(tx, row.id, user.id)))
           throw gone('This invitation has just been used or withdrawn.');

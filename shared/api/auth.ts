@@ -24,6 +24,12 @@ export const registerBody = z.object({
   name: z.string().trim().min(1, { message: 'Enter your name' }).max(120),
   email,
   password,
+  /**
+   * The token of the invitation link the person came from. When it was sent to this address,
+   * the link has already shown the address reaches them: the account is made and signed in
+   * at once, with no confirmation mail.
+   */
+  invitation: z.string().min(20).max(200).optional(),
 });
 export type RegisterBody = z.infer<typeof registerBody>;
 
@@ -32,6 +38,18 @@ export const loginBody = z.object({
   password: z.string().min(1, { message: 'Enter your password' }).max(200),
 });
 export type LoginBody = z.infer<typeof loginBody>;
+
+/**
+ * Answered (202, no session) to every registration that did not come from an invitation sent
+ * to its address, whether or not the address already has an account: a new address gets a
+ * link that makes the account, a taken one a note to its owner.
+ */
+export const registerMessage =
+  'Check your mail: the next step is on its way to that address. A link to finish your account works once, for 24 hours.';
+
+export const registerMailed = z.object({ message: z.string() });
+
+export const emailConfirmBody = z.object({ token: z.string().min(20).max(200) });
 
 export const passwordResetBody = registerBody.pick({ email: true });
 export const passwordResetConfirmBody = z.object({

@@ -35,6 +35,12 @@ export const router = createRouter({
       meta: { title: 'Reset the password', public: true },
     },
     {
+      path: '/confirm-email',
+      name: 'confirm-email',
+      component: () => import('@/views/ConfirmEmailView.vue'),
+      meta: { title: 'Confirm your address', public: true },
+    },
+    {
       path: '/invitations/:token',
       name: 'invitation',
       component: () => import('@/views/InvitationView.vue'),

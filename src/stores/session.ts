@@ -27,8 +27,15 @@ export const useSessionStore = defineStore('session', () => {
     user.value = (await authApi.login(body)).user;
   }
 
-  async function register(body: RegisterBody) {
-    user.value = (await authApi.register(body)).user;
+  /** Answers the message to show when the account waits for its mailed link. */
+  async function register(body: RegisterBody): Promise<string | undefined> {
+    const answer = await authApi.register(body);
+    if ('message' in answer) return answer.message;
+    user.value = answer.user;
+  }
+
+  async function confirmEmail(token: string) {
+    user.value = (await authApi.confirmEmail(token)).user;
   }
 
   async function logout() {
@@ -37,5 +44,5 @@ export const useSessionStore = defineStore('session', () => {
     await load();
   }
 
-  return { user, loaded, signedIn, ensureLoaded, load, login, register, logout };
+  return { user, loaded, signedIn, ensureLoaded, load, login, register, confirmEmail, logout };
 });

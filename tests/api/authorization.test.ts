@@ -42,8 +42,7 @@ const scratchMember = async () => {
   return u.id;
 };
 /** A pending invitation's link token, read from the mail sink. */
-const inviteToken = async () => {
-  const email = `link${++counter}@example.com`;
+const inviteToken = async (email = `link${++counter}@example.com`) => {
   await c.owner.post(p('/invitations'), { email, role: 'viewer' }).expect(201);
   const mail = await waitForMail(t, email);
   return mail.body.match(/\/invitations\/([\w-]+)/)![1];
@@ -339,14 +338,16 @@ const rows: Row[] = [
     expect: { owner: 200, editor: 200, checker: 200, viewer: 200, stranger: 200, signedOut: 200 },
   },
   {
-    route: 'POST /api/invitations/:token/accept (members keep their role; a stranger joins)',
+    route:
+      "POST /api/invitations/:token/accept (only by the invited address: a stranger invited joins; a member holding another's link is refused)",
     key: 'POST /:token/accept',
     call: async (w, me) => {
-      const res = await w.post(`/api/invitations/${await inviteToken()}/accept`);
+      const token = await inviteToken(me === 'stranger' ? 'stranger@authz.example.com' : undefined);
+      const res = await w.post(`/api/invitations/${token}/accept`);
       if (me === 'stranger') await c.owner.delete(p(`/members/${ids.stranger}`)).expect(204);
       return res;
     },
-    expect: signedIn(200),
+    expect: { owner: 403, editor: 403, checker: 403, viewer: 403, stranger: 200, signedOut: 401 },
   },
   {
     route: 'GET /export',
@@ -436,6 +437,7 @@ describe('authorisation matrix: every route for every caller', () => {
     const testedElsewhere = new Set([
       'GET /session',
       'POST /register',
+      'POST /confirm-email',
       'POST /login',
       'POST /logout',
       'POST /password-reset',

@@ -69,7 +69,9 @@ describe('invitations', () => {
       state: 'pending',
     });
     const mail = await waitForMail(t, 'new.member@example.com');
-    expect(mail.subject).toContain('Team tests');
+    // The subject is ours alone: neither the inviter's name nor the project's (both theirs).
+    expect(mail.subject).toBe('An invitation to a project on Fairsheet');
+    expect(mail.body).toContain('Team tests');
     const token = mail.body.match(/\/invitations\/([\w-]+)/)![1];
 
     const preview = await new TestClient(t.app).get(`/api/invitations/${token}`).expect(200);
@@ -83,7 +85,17 @@ describe('invitations', () => {
     const invitee = new TestClient(t.app);
     await invitee.refresh();
     expect((await invitee.post(`/api/invitations/${token}/accept`)).status).toBe(401);
-    await invitee.register('someone.else@example.com');
+    // Registering from the link with the invited address: the account is made and signed in
+    // at once (201), the link having shown the address reaches them.
+    const registered = await invitee.post('/api/auth/register', {
+      name: 'Nell Member',
+      email: 'new.member@example.com',
+      password: 'member password 1',
+      invitation: token,
+    });
+    expect(registered.status).toBe(201);
+    expect(registered.body.user.email).toBe('new.member@example.com');
+    invitee.csrf = registered.body.csrfToken;
     const accepted = await invitee.post(`/api/invitations/${token}/accept`).expect(200);
     expect(accepted.body).toEqual({ projectId, role: 'editor' });
     expect((await invitee.get(url(''))).body.role).toBe('editor');
@@ -93,6 +105,85 @@ describe('invitations', () => {
     const used = await late.post(`/api/invitations/${token}/accept`);
     expect(used.status).toBe(410);
     expect(used.body.error.message).toMatch(/already been used/);
+  });
+
+  it("POST /api/invitations/:token/accept answers 403 to another address, a member's included, and the invitation stays pending", async () => {
+    await owner
+      .post(url('/invitations'), { email: 'meant@example.com', role: 'editor' })
+      .expect(201);
+    const token = (await waitForMail(t, 'meant@example.com')).body.match(
+      /\/invitations\/([\w-]+)/,
+    )![1];
+    const other = new TestClient(t.app);
+    await other.register('not.meant@example.com');
+    const refused = await other.post(`/api/invitations/${token}/accept`);
+    expect(refused.status).toBe(403);
+    expect(refused.body.error.message).toMatch(/for meant@example\.com/);
+    expect((await other.get(url(''))).status).toBe(404);
+    // A member of the project holding the link cannot use it up (nor raise their role by it).
+    expect((await viewer.post(`/api/invitations/${token}/accept`)).status).toBe(403);
+    expect((await viewer.get(url(''))).body.role).toBe('viewer');
+    const preview = await new TestClient(t.app).get(`/api/invitations/${token}`).expect(200);
+    expect(preview.body.state).toBe('pending');
+    // Registering from the link with another address makes no account at once (202, mail).
+    const guest = new TestClient(t.app);
+    await guest.refresh();
+    const elsewhere = await guest.post('/api/auth/register', {
+      name: 'Elsewhere',
+      email: 'elsewhere@example.com',
+      password: 'elsewhere password',
+      invitation: token,
+    });
+    expect(elsewhere.status).toBe(202);
+    expect((await guest.refresh()).user).toBeNull();
+  });
+
+  it('an account whose address was never confirmed is mailed a link and answered 403; once confirmed it accepts', async () => {
+    const older = new TestClient(t.app);
+    const user = await older.register('older@example.com');
+    // As an account made before addresses were confirmed.
+    await t.database.pool.query('update users set email_verified_at = null where id = $1', [
+      user.id,
+    ]);
+    await owner
+      .post(url('/invitations'), { email: 'older@example.com', role: 'viewer' })
+      .expect(201);
+    const token = (await waitForMail(t, 'older@example.com', 5000, /\/invitations\//)).body.match(
+      /\/invitations\/([\w-]+)/,
+    )![1];
+    const first = await older.post(`/api/invitations/${token}/accept`);
+    expect(first.status).toBe(403);
+    expect(first.body.error.message).toMatch(/Confirm that older@example\.com is yours/);
+    const confirm = (
+      await waitForMail(t, 'older@example.com', 5000, /\/confirm-email\?token=/)
+    ).body.match(/\/confirm-email\?token=([\w-]+)/)![1];
+    const confirmed = await older.post('/api/auth/confirm-email', { token: confirm }).expect(200);
+    expect(confirmed.body.user.id).toBe(user.id);
+    older.csrf = confirmed.body.csrfToken;
+    await older.post(`/api/invitations/${token}/accept`).expect(200);
+    expect((await older.get(url(''))).body.role).toBe('viewer');
+  });
+
+  it('registering from a link for an address that already has an account answers 409 to the link holder', async () => {
+    await owner
+      .post(url('/invitations'), { email: 'team.stranger@example.com', role: 'viewer' })
+      .expect(201);
+    const token = (
+      await waitForMail(t, 'team.stranger@example.com', 5000, /\/invitations\//)
+    ).body.match(/\/invitations\/([\w-]+)/)![1];
+    const guest = new TestClient(t.app);
+    await guest.refresh();
+    const res = await guest.post('/api/auth/register', {
+      name: 'Twice',
+      email: 'team.stranger@example.com',
+      password: 'another password 1',
+      invitation: token,
+    });
+    expect(res.status).toBe(409);
+    expect(res.body.error.message).toMatch(/Sign in to accept/);
+    // The account holder accepts with the account they have.
+    await stranger.post(`/api/invitations/${token}/accept`).expect(200);
+    await owner.delete(url(`/members/${(await stranger.refresh()).user.id}`)).expect(204);
   });
 
   it('pending invitations are listed; a revoked or expired link answers 410 with a clear message', async () => {
@@ -156,6 +247,44 @@ describe('invitations', () => {
       role: 'viewer',
     });
     expect(dup.status).toBe(409);
+  });
+});
+
+describe('invitation limits', () => {
+  it('invitations and resends past the limit per project or per address answer 429 with Retry-After', async () => {
+    const limited = await createTestApp({ invitationLimits: { perProject: 3, perAddress: 2 } });
+    try {
+      const me = new TestClient(limited.app);
+      await me.register('limited.owner@example.com');
+      const project = async (name: string) =>
+        (await me.post('/api/projects', { name }).expect(201)).body.id as string;
+      const [a, b] = [await project('Limited A'), await project('Limited B')];
+      const invite = (projectId: string, email: string) =>
+        me.post(`/api/projects/${projectId}/invitations`, { email, role: 'viewer' });
+
+      await invite(a, 'one@example.com').expect(201);
+      const two = await invite(a, 'two@example.com').expect(201);
+      // A refusal is not a mail sent: it does not count.
+      await invite(a, 'limited.owner@example.com').expect(409);
+      await me.post(`/api/projects/${a}/invitations/${two.body.id}/resend`).expect(200);
+      const projectFull = await invite(a, 'three@example.com');
+      expect(projectFull.status).toBe(429);
+      expect(projectFull.body.error.code).toBe('rate_limited');
+      expect(Number(projectFull.headers['retry-after'])).toBeGreaterThan(0);
+      expect((await me.post(`/api/projects/${a}/invitations/${two.body.id}/resend`)).status).toBe(
+        429,
+      );
+      // Another project has its own count, but an address counts across every project.
+      const addressFull = await invite(b, 'two@example.com');
+      expect(addressFull.status).toBe(429);
+      expect(addressFull.body.error.message).toMatch(/address/);
+      await invite(b, 'four@example.com').expect(201);
+      await expect
+        .poll(() => limited.mail().filter((m) => m.to.includes('two@example.com')).length)
+        .toBe(2);
+    } finally {
+      await limited.close();
+    }
   });
 });
 

@@ -5,11 +5,12 @@ import path from 'node:path';
 import pg from 'pg';
 import request from 'supertest';
 import { inject } from 'vitest';
-import { createApp } from '../../server/app';
+import { createApp, type AppDeps } from '../../server/app';
 import { createPasswordHasher } from '../../server/auth/passwords';
 import { connect, type Database } from '../../server/db/client';
 import { createMailer } from '../../server/mail/mailer';
 import { readMailbox, startMailSink, type MailSink } from '../../server/mail/sink';
+import type { SolvePool } from '../../server/solve/pool';
 import { createLocalStorage, type BlobStorage } from '../../server/storage';
 
 /** A fresh database copied from the run's migrated template. */
@@ -56,6 +57,9 @@ export interface TestApp {
   close: () => Promise<void>;
 }
 
+/** Each test app's sink, so a TestClient made from the app alone can read its mail. */
+const testApps = new WeakMap<TestApp['app'], TestApp>();
+
 /** The real app (createApp) on a real, fresh PostgreSQL database, with a real SMTP sink. */
 export async function createTestApp(
   options: {
@@ -71,6 +75,20 @@ export async function createTestApp(
     solvesPerMinute?: number;
     /** Express `trust proxy`, as TRUST_PROXY sets it (default: unset, no proxy trusted). */
     trustProxy?: string;
+    /** Where solves run (default: the process's pool). */
+    solver?: SolvePool;
+    /**
+     * Sign-in and registration limits. Default: the app's, except registrations per client
+     * address, which a test file (all from 127.0.0.1) would soon use up.
+     */
+    authLimits?: AppDeps['authLimits'];
+    /**
+     * Invitation limits. Default: the app's, except invitations per project, which a test
+     * file's one project would soon use up.
+     */
+    invitationLimits?: AppDeps['invitationLimits'];
+    /** Default: bcrypt at cost 4 (testHasher). */
+    hasher?: AppDeps['hasher'];
   } = {},
 ): Promise<TestApp> {
   const testDb = options.databaseUrl
@@ -94,14 +112,17 @@ export async function createTestApp(
     uploadTempDir,
     solvesPerMinute: options.solvesPerMinute,
     trustProxy: options.trustProxy,
-    hasher: testHasher,
+    solver: options.solver,
+    authLimits: { registrationsPerClient: 1000, ...options.authLimits },
+    invitationLimits: { perProject: 1000, ...options.invitationLimits },
+    hasher: options.hasher ?? testHasher,
     sessionSecret: options.sessionSecret ?? randomBytes(32).toString('hex'),
     appUrl: options.appUrl ?? 'http://127.0.0.1:3000',
     production: false,
     mailDir: sink.dir,
     clientDir: options.clientDir,
   });
-  return {
+  const testApp: TestApp = {
     app,
     database,
     databaseUrl: testDb.url,
@@ -119,6 +140,8 @@ export async function createTestApp(
       }
     },
   };
+  testApps.set(app, testApp);
+  return testApp;
 }
 
 /** A supertest agent that keeps its cookie and sends the CSRF token on every change. */
@@ -126,7 +149,7 @@ export class TestClient {
   readonly agent: ReturnType<typeof request.agent>;
   csrf = '';
 
-  constructor(app: TestApp['app']) {
+  constructor(readonly app: TestApp['app']) {
     this.agent = request.agent(app);
   }
 
@@ -152,9 +175,20 @@ export class TestClient {
     return this.agent.delete(url).set('X-CSRF-Token', this.csrf);
   }
 
+  /**
+   * Registers as a person does: the answer (202) says to check the mail, and the mailed link
+   * makes the account and signs in. The followed mail is taken out of the sink, so a later
+   * wait for mail to this address sees only what came after.
+   */
   async register(email: string, password = 'correct horse battery', name = 'Test Builder') {
+    const t = testApps.get(this.app);
+    if (!t) throw new Error('register: the app was not made by createTestApp');
     await this.refresh();
-    const res = await this.post('/api/auth/register', { name, email, password }).expect(201);
+    await this.post('/api/auth/register', { name, email, password }).expect(202);
+    const mail = await waitForMail(t, email, 5000, /\/confirm-email\?token=/);
+    rmSync(path.join(t.sink.dir, mail.file), { force: true });
+    const token = mail.body.match(/\/confirm-email\?token=([\w-]+)/)![1];
+    const res = await this.post('/api/auth/confirm-email', { token }).expect(200);
     this.csrf = res.body.csrfToken;
     return res.body.user as { id: string; email: string };
   }
@@ -167,11 +201,17 @@ export class TestClient {
   }
 }
 
-/** Polls the sink until a message for `to` arrives (mail is sent after the HTTP answer). */
-export async function waitForMail(t: TestApp, to: string, timeoutMs = 5000) {
+/**
+ * Polls the sink until a message for `to` (whose body matches `body`, when given) arrives
+ * (mail is sent after the HTTP answer); answers the newest.
+ */
+export async function waitForMail(t: TestApp, to: string, timeoutMs = 5000, body?: RegExp) {
+  const address = to.toLowerCase();
   const start = Date.now();
   while (Date.now() - start < timeoutMs) {
-    const found = t.mail().find((m) => m.to.includes(to));
+    const found = t
+      .mail()
+      .find((m) => m.to.toLowerCase().includes(address) && (!body || body.test(m.body)));
     if (found) return found;
     await new Promise((r) => setTimeout(r, 50));
   }
@@ -180,9 +220,10 @@ export async function waitForMail(t: TestApp, to: string, timeoutMs = 5000) {
 
 /** The first link under `prefix` (e.g. `${baseUrl}/invitations/`) in the mail sent to `to`. */
 export async function mailedLink(t: TestApp, to: string, prefix: string): Promise<string> {
-  const mail = await waitForMail(t, to);
   const escaped = prefix.replace(/[.*+?^${}()|[\]\\]/g, '\\$&');
-  const link = mail.body.match(new RegExp(`${escaped}[A-Za-z0-9_-]+`))?.[0];
+  const pattern = new RegExp(`${escaped}[A-Za-z0-9_-]+`);
+  const mail = await waitForMail(t, to, 5000, pattern);
+  const link = mail.body.match(pattern)?.[0];
   if (!link) throw new Error(`no link under ${prefix} in the mail to ${to}:\n${mail.body}`);
   return link;
 }
