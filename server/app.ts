@@ -191,7 +191,8 @@ export function createApp(deps: AppDeps): Express {
           return {
             checkOf: (name) => byName.get(name),
             corrections: corrections.map((c) => ({
-              sheet: c.sheetId,
+              // People read the sheet's title; a sheet since removed is said so, not its id.
+              sheet: c.sheetId ? (c.sheetTitle ?? 'a removed sheet') : null,
               dimension: c.dimension,
               wrong: c.wrong,
               corrected: c.corrected,

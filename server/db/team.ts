@@ -1,7 +1,7 @@
 import { and, desc, eq, isNull, sql } from 'drizzle-orm';
 import type { Db } from './client';
 import type { DbOrTx } from './models';
-import { memberships, projects, users } from './schema';
+import { memberships, projects, sheets, users } from './schema';
 import { activity, checks, comments, corrections, invitations } from './schema-team';
 
 // Invitations
@@ -270,9 +270,11 @@ export async function listCorrections(db: Db, projectId: string) {
       createdAt: corrections.createdAt,
       userId: corrections.userId,
       userName: users.name,
+      sheetTitle: sheets.title,
     })
     .from(corrections)
     .leftJoin(users, eq(users.id, corrections.userId))
+    .leftJoin(sheets, eq(sheets.id, corrections.sheetId))
     .where(eq(corrections.projectId, projectId))
     .orderBy(corrections.createdAt);
 }

@@ -1,6 +1,7 @@
 import type { Comment, CommentBody } from '@shared/api';
 import type { Db } from '../db/client';
 import { listMembers } from '../db/projects';
+import { findSheet } from '../db/sheets';
 import * as repo from '../db/team';
 import type { Mailer } from '../mail/mailer';
 import type { ActivityService } from './activity';
@@ -21,6 +22,47 @@ export function findMentions(
         w === m.name.split(/\s+/)[0].toLowerCase(),
     ),
   );
+}
+
+/**
+ * Where a comment sits, in words and as a link the client opens at that item: a dimension or a
+ * relation on the model page (`?select=` / `?relation=`), a pin or a sheet on its sheet page
+ * (`?pin=` opens the pin's comments, `?tab=comments` the sheet's).
+ */
+async function placeOf(
+  db: Db,
+  projectId: string,
+  target: { targetKind: Comment['targetKind']; targetId: string },
+): Promise<{ words: string; path: string }> {
+  const base = `/projects/${projectId}`;
+  const q = encodeURIComponent;
+  switch (target.targetKind) {
+    case 'dimension':
+      return {
+        words: `the dimension ${target.targetId}`,
+        path: `${base}/model?select=${q(target.targetId)}`,
+      };
+    case 'relation':
+      return {
+        words: `the relation ${target.targetId}`,
+        path: `${base}/model?relation=${q(target.targetId)}`,
+      };
+    case 'pin':
+    case 'sheet': {
+      const [sheetId, pinId] = target.targetId.split(':');
+      const sheet = await findSheet(db, projectId, sheetId).catch(() => undefined);
+      if (!sheet) return { words: 'a sheet of the project', path: `${base}/sheets` };
+      const title = `the sheet “${sheet.title}”`;
+      if (target.targetKind === 'sheet')
+        return { words: title, path: `${base}/sheets/${sheet.id}?tab=comments` };
+      const pins = (sheet.pins ?? []) as { id: string; label?: string }[];
+      const label = pins.find((p) => p.id === pinId)?.label;
+      return {
+        words: `${label ? `the pin “${label}”` : 'a pin'} on ${title}`,
+        path: `${base}/sheets/${sheet.id}?pin=${q(pinId ?? '')}`,
+      };
+    }
+  }
 }
 
 export function createCommentService(deps: {
@@ -63,12 +105,13 @@ export function createCommentService(deps: {
         body: body.body,
         mentions: mentioned.map((m) => m.name),
       });
+      const place = await placeOf(db, project.id, body);
       for (const m of mentioned) {
         mailer
           .send({
             to: m.email,
             subject: `${author.name} mentioned you on “${project.name}”`,
-            text: `${author.name} wrote on ${body.targetKind} ${body.targetId}:\n\n${body.body}\n\n${appUrl}/projects/${project.id}/model\n`,
+            text: `${author.name} wrote on ${place.words}:\n\n${body.body}\n\nOpen it: ${appUrl}${place.path}\n`,
           })
           .catch((err: Error) => console.error('[mail] mention not sent:', err.message));
       }
@@ -76,7 +119,7 @@ export function createCommentService(deps: {
         projectId: project.id,
         userId: author.id,
         kind: 'comment',
-        summary: `commented on ${body.targetKind} ${body.targetId}`,
+        summary: `commented on ${place.words}`,
         details: { commentId: row.id, mentions: mentioned.map((m) => m.name) },
       });
       return {

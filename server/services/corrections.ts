@@ -15,6 +15,7 @@ export function createCorrectionService(db: Db, activity: ActivityService) {
   ): Correction => ({
     id: r.id,
     sheetId: r.sheetId,
+    sheetTitle: r.sheetTitle ?? null,
     dimension: r.dimension,
     wrong: r.wrong,
     corrected: r.corrected,
@@ -43,7 +44,7 @@ export function createCorrectionService(db: Db, activity: ActivityService) {
         summary: `corrected ${body.dimension ?? 'the drawing'}: ${body.wrong} → ${body.corrected}`,
         details: { correctionId: row.id },
       });
-      return toCorrection({ ...row, userName: author.name });
+      return toCorrection({ ...row, userName: author.name, sheetTitle: null });
     },
   };
 }

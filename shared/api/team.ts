@@ -111,6 +111,8 @@ export const correctionBody = z.object({
 export type CorrectionBody = z.input<typeof correctionBody>;
 export const correction = correctionBody.extend({
   id: z.uuid(),
+  /** The title of the sheet it was found on, for people to read (the id is for links). */
+  sheetTitle: z.string().nullable().optional(),
   author: user.pick({ id: true, name: true }),
   createdAt: z.string(),
 });

@@ -106,7 +106,7 @@ describe('sheets on the canvas, in a real browser', () => {
     await page.waitForURL(/\/sheets\/[0-9a-f-]+$/);
     const canvas = page.locator('[data-testid=sheet-canvas]');
     await canvas.waitFor();
-    await page.getByText(/opened in \d+ ms/).waitFor();
+    await page.getByTestId('first-view').waitFor({ state: 'attached' });
     expect(await page.getByTestId('calibration-badge').textContent()).toContain('not calibrated');
 
     // Two-point calibration along the 1,200 px line; a wrong length is refused and kept.
@@ -218,7 +218,7 @@ describe('sheets on the canvas, in a real browser', () => {
     await list.getByRole('link').first().click();
     const canvas = page.getByTestId('sheet-canvas');
     await canvas.waitFor();
-    await page.getByText(/opened in \d+ ms/).waitFor();
+    await page.getByTestId('first-view').waitFor({ state: 'attached' });
     expect(await page.getByRole('toolbar').textContent()).toContain('read only');
     expect(await page.getByTestId('tool-pin').count()).toBe(0);
     const before = JSON.parse((await canvas.getAttribute('data-view'))!) as { zoom: number };
