@@ -122,6 +122,13 @@ const pages: MainPage[] = [
     path: () => `/invitations/${ids.invitation}`,
     ready: '[data-testid=invitation-preview]',
   },
+  {
+    // The page asks for a press before it uses the link, so any token shows it.
+    name: 'address confirmation',
+    signedIn: false,
+    path: () => `/confirm-email?token=${'x'.repeat(43)}`,
+    ready: '[data-testid=confirm-email]',
+  },
   { name: 'not found', signedIn: false, path: () => '/no-such-page', ready: 'h1' },
   {
     name: 'projects',

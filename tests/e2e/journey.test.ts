@@ -273,12 +273,17 @@ describe('a new builder’s journey, from an empty account to the shop sheet, in
     async () => {
       const page = await newPage();
 
-      // 1. Register a new account: signed in at once, with no projects yet.
+      // 1. Register a new account: the mailed link signs it in, with no projects yet.
       await page.goto(`${rig.baseUrl}/register`);
       await page.locator('#register-name').fill(builder.name);
       await page.locator('#register-email').fill(builder.email);
       await page.locator('#register-password').fill(builder.password);
       await page.getByRole('button', { name: 'Create account' }).click();
+      await page.getByTestId('register-mailed').waitFor();
+      await page.goto(
+        await mailedLink(rig.t, builder.email, `${rig.baseUrl}/confirm-email?token=`),
+      );
+      await page.getByTestId('confirm-email').click();
       await page.waitForURL(/\/projects$/);
       await page.getByText('No projects yet').waitFor();
       expect(await page.getByRole('navigation', { name: 'Account' }).innerText()).toContain(

@@ -1,5 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { demoBuilder, demoPassword, demoProjectName } from '../../server/demo/seed';
+import { mailedLink } from '../helpers/app';
 import { screenshot, startBrowserRig, type BrowserRig } from '../helpers/browser';
 
 let rig: BrowserRig;
@@ -45,7 +46,7 @@ describe('signing in, in a real browser', () => {
     await context.close();
   });
 
-  it('a new builder registers, is signed in at once, and creates a project', async () => {
+  it('a new builder registers, opens the mailed link, is signed in, and creates a project', async () => {
     const context = await rig.browser.newContext({
       viewport: { width: 1024, height: 768 },
       hasTouch: true,
@@ -63,6 +64,12 @@ describe('signing in, in a real browser', () => {
     expect(await page.locator('#register-email').inputValue()).toBe('sam@example.com');
     await page.locator('#register-password').fill('a long enough password');
     await page.getByRole('button', { name: 'Create account' }).click();
+    // The same answer whether or not the address has an account: check the mail.
+    await page.getByTestId('register-mailed').waitFor();
+    expect(await page.getByTestId('register-mailed').innerText()).toMatch(/Check your mail/);
+    const link = await mailedLink(rig.t, 'sam@example.com', `${rig.baseUrl}/confirm-email?token=`);
+    await page.goto(link);
+    await page.getByTestId('confirm-email').click();
     await page.waitForURL(/\/projects$/);
     await page.getByRole('button', { name: 'New project' }).click();
     await page.locator('#project-name').fill('Traction engine, hind axle');
