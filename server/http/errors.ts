@@ -25,6 +25,8 @@ export const conflict = (message: string, details?: unknown) =>
   new AppError('conflict', message, 409, details);
 export const unprocessable = (message: string, details?: unknown) =>
   new AppError('unprocessable', message, 422, details);
+export const payloadTooLarge = (message: string, details?: unknown) =>
+  new AppError('payload_too_large', message, 413, details);
 
 // How node-postgres (pg 8.23, pg-pool 3) reports a database it cannot reach or that went away:
 // socket errors, SQLSTATEs of the server stopping or refusing connections, and plain Errors

@@ -1,7 +1,8 @@
 import type { RequestHandler } from 'express';
 import type { z } from 'zod';
 import type { FieldIssue } from '@shared/api';
-import { badRequest } from './errors';
+import type { LimitIssueParams } from '@shared/engine';
+import { badRequest, payloadTooLarge, unprocessable } from './errors';
 
 interface Schemas {
   params?: z.ZodType;
@@ -38,14 +39,33 @@ export function unstorableText(value: unknown, path: string[] = []): FieldIssue[
   return [];
 }
 
+/** The issues that are a size limit of shared/engine (MODEL_LIMITS), with their field paths. */
+function limitIssues(error: z.ZodError, part: string) {
+  return error.issues.flatMap((i) => {
+    const params = i.code === 'custom' ? (i.params as Partial<LimitIssueParams> | undefined) : null;
+    if (!params?.limit || !params.kind) return [];
+    return [
+      {
+        path: i.path.join('.') || part,
+        message: i.message,
+        limit: params.limit,
+        kind: params.kind,
+      },
+    ];
+  });
+}
+
 /**
  * Validates the parts of a request against zod schemas from shared/api and replaces them with
  * the parsed values, so handlers see clean, typed data; text the database cannot store is
- * refused with them. A 400 names every offending field.
+ * refused with them. A 400 names every offending field. A body over one of the engine's size
+ * limits answers 413 (too large) or 422 (too much work, e.g. Monte Carlo samples × dimensions),
+ * the message naming the limit, whatever else is wrong with it.
  */
 export function validate(schemas: Schemas): RequestHandler {
   return (req, res, next) => {
     const fields: FieldIssue[] = [];
+    const limits: ReturnType<typeof limitIssues> = [];
     for (const part of ['params', 'query', 'body'] as const) {
       const schema = schemas[part];
       if (!schema) continue;
@@ -58,8 +78,21 @@ export function validate(schemas: Schemas): RequestHandler {
         if (part === 'query') res.locals.query = result.data;
         else req[part] = result.data;
       } else {
+        limits.push(...limitIssues(result.error, part));
         fields.push(...fieldIssues(result.error).map((f) => ({ ...f, path: f.path || part })));
       }
+    }
+    if (limits.length) {
+      const first = limits.find((l) => l.kind === 'size') ?? limits[0];
+      const message = `Over a limit: ${first.message} (${first.path}).`;
+      const details = {
+        limit: first.limit,
+        fields: limits.map(({ path, message }) => ({ path, message })),
+      };
+      next(
+        first.kind === 'size' ? payloadTooLarge(message, details) : unprocessable(message, details),
+      );
+      return;
     }
     if (fields.length) {
       const names = [...new Set(fields.map((f) => f.path))].join(', ');

@@ -21,7 +21,33 @@ import type { ModelUnit } from './quantity';
 const math = create({ parseDependencies });
 
 export type ExpressionErrorCode =
-  'syntax' | 'forbidden' | 'unknown-name' | 'unit-mismatch' | 'division-by-zero';
+  'syntax' | 'forbidden' | 'unknown-name' | 'unit-mismatch' | 'division-by-zero' | 'over-limit';
+
+/**
+ * How large one expression may be. A drawing's relations are chains of a few to a few dozen
+ * names, and a whole locomotive's drawing set has no relation longer than a few lines; these
+ * limits are far beyond that. They exist because every walk of a tree here (reading, binding,
+ * compiling, evaluating) goes one call deeper per level, and mathjs's own parser about twenty
+ * calls deeper per parenthesis: text of any size would otherwise overflow the stack. Each is
+ * checked while the text is read, before anything recurses over it.
+ */
+export const EXPRESSION_LIMITS = Object.freeze({
+  /** Characters of an expression (a feature's position), or of one side of a relation. */
+  characters: 2000,
+  /** Characters of a relation: room for two sides as long as an expression. */
+  relationCharacters: 4000,
+  /** Parentheses (a function call's own included) open inside one another. */
+  nesting: 64,
+  /**
+   * Operations inside one another. Each `+` of a chain is one level deeper than the last, so
+   * this is also the longest sum: 200 terms, where a real chain has a few dozen.
+   */
+  depth: 200,
+  /** Arguments of one min, max or hypot. */
+  arguments: 250,
+});
+
+const thousands = (n: number) => n.toLocaleString('en-GB');
 
 /** A refused or unreadable relation; `at` is the character offset of the offending token. */
 export class ExpressionError extends Error {
@@ -181,6 +207,8 @@ function lex(src: string): { tokens: Token[]; prepared: string } {
     out[at] = c;
   };
   const tokens: Token[] = [];
+  // Open parentheses: mathjs's parser recurses about twenty calls per level.
+  let depth = 0;
   let i = 0;
   while (i < src.length) {
     const c = src[i];
@@ -247,6 +275,14 @@ function lex(src: string): { tokens: Token[]; prepared: string } {
       continue;
     }
     if (c === '(' || c === ')') {
+      depth += c === '(' ? 1 : -1;
+      if (depth > EXPRESSION_LIMITS.nesting) {
+        throw new ExpressionError(
+          'over-limit',
+          `parentheses are nested more than ${EXPRESSION_LIMITS.nesting} deep`,
+          i,
+        );
+      }
       tokens.push({ kind: 'paren', text: c, at: i });
       i++;
       continue;
@@ -323,10 +359,19 @@ class SideReader {
     return this.seq[Math.min(this.k, this.seq.length - 1)]?.at ?? this.fallbackAt;
   }
 
-  walk(n: MathNode): ExprNode {
+  /** `depth`: operations above this node (parentheses add none: the lexer bounds them). */
+  walk(n: MathNode, depth = 0): ExprNode {
+    if (depth > EXPRESSION_LIMITS.depth) {
+      throw new ExpressionError(
+        'over-limit',
+        `more than ${EXPRESSION_LIMITS.depth} operations inside one another (each + or - of a ` +
+          'chain is one more): split it into shorter relations',
+        this.here(),
+      );
+    }
     switch (n.type) {
       case 'ParenthesisNode':
-        return this.walk((n as unknown as { content: MathNode }).content);
+        return this.walk((n as unknown as { content: MathNode }).content, depth);
       case 'ConstantNode': {
         const v = (n as unknown as { value: unknown }).value;
         const at = this.take('num');
@@ -361,16 +406,16 @@ class SideReader {
         const op = n as unknown as { fn: string; op: string; args: MathNode[]; implicit?: boolean };
         if (op.fn === 'unaryMinus' || op.fn === 'unaryPlus') {
           const at = this.take('op', op.op);
-          const a = this.walk(op.args[0]);
+          const a = this.walk(op.args[0], depth + 1);
           return op.fn === 'unaryMinus' ? { t: 'neg', a, at } : a;
         }
         const sym = OPS[op.fn];
         if (!sym || op.args.length !== 2) {
           throw new ExpressionError('forbidden', `operator '${op.op}' is not allowed`, this.here());
         }
-        const a = this.walk(op.args[0]);
+        const a = this.walk(op.args[0], depth + 1);
         const at = op.implicit ? this.here() : this.take('op', op.op);
-        const b = this.walk(op.args[1]);
+        const b = this.walk(op.args[1], depth + 1);
         return { t: 'bin', op: sym, a, b, at };
       }
       case 'FunctionNode': {
@@ -396,7 +441,19 @@ class SideReader {
             at,
           );
         }
-        return { t: 'call', fn: name as FunctionName, args: f.args.map((a) => this.walk(a)), at };
+        if (f.args.length > EXPRESSION_LIMITS.arguments) {
+          throw new ExpressionError(
+            'over-limit',
+            `${name} takes at most ${EXPRESSION_LIMITS.arguments} arguments; this call has ${thousands(f.args.length)}`,
+            at,
+          );
+        }
+        return {
+          t: 'call',
+          fn: name as FunctionName,
+          args: f.args.map((a) => this.walk(a, depth + 1)),
+          at,
+        };
       }
       case 'AssignmentNode':
         throw new ExpressionError(
@@ -430,6 +487,11 @@ function mathParse(text: string): MathNode {
   try {
     return math.parse(text);
   } catch (e) {
+    // The limits above keep mathjs's recursion shallow; should a caller's own stack be nearly
+    // full already, the overflow is still this relation's refusal, not the caller's crash.
+    if (e instanceof RangeError) {
+      throw new ExpressionError('over-limit', 'this expression is too deeply nested to read', 0);
+    }
     const err = e as { message?: string; char?: number };
     const at = typeof err.char === 'number' ? Math.max(0, Math.min(err.char - 1, text.length)) : 0;
     const message = (err.message ?? 'syntax error').replace(/\s*\(char \d+\)\s*$/, '');
@@ -460,6 +522,17 @@ function collectNames(n: ExprNode, into: string[], seen: Set<string>): void {
   }
 }
 
+/** Refuses text over `limit` characters, at the first character past it. */
+function checkLength(text: string, limit: number, what: string): void {
+  if (text.length > limit) {
+    throw new ExpressionError(
+      'over-limit',
+      `${what} is at most ${thousands(limit)} characters; this one has ${thousands(text.length)}`,
+      limit,
+    );
+  }
+}
+
 /** Parsed relations by text: re-solving on every keystroke re-parses only what changed. */
 const cache = new Map<string, ParsedRelation | ExpressionError>();
 const CACHE_LIMIT = 20_000;
@@ -481,6 +554,8 @@ export function clearRelationCache(): void {
  * @example parseRelation('x = a.b') // throws ExpressionError { code: 'forbidden', at: 5 }
  */
 export function parseRelation(text: string): ParsedRelation {
+  // Before the cache: a refused text is not kept (a megabyte each would fill it).
+  checkLength(text, EXPRESSION_LIMITS.relationCharacters, 'a relation');
   const hit = cache.get(text);
   if (hit) {
     if (hit instanceof ExpressionError) throw hit;
@@ -536,6 +611,7 @@ function parseRelationUncached(text: string): ParsedRelation {
  * @example parseExpression('hypot(a, b) / 2').t // 'bin'
  */
 export function parseExpression(text: string): ExprNode {
+  checkLength(text, EXPRESSION_LIMITS.characters, 'an expression');
   const { tokens, prepared } = lex(text);
   const eq = tokens.find((t) => t.kind === 'eq');
   if (eq) throw new ExpressionError('forbidden', "'=' is not allowed in an expression", eq.at);
@@ -619,6 +695,8 @@ function applyFn(fn: FunctionName, v: number[]): number {
       return Math.sqrt(v[0]);
     case 'abs':
       return Math.abs(v[0]);
+    // v has at most EXPRESSION_LIMITS.arguments entries (checked when read): the spreads below
+    // stay far inside the engine's argument limit.
     case 'min':
       return Math.min(...v);
     case 'max':

@@ -26,7 +26,7 @@ import {
 import { parseQuantity, quantityIn, type ModelUnit } from './quantity';
 import type { Contributor, SolveStatus } from './result';
 import { conservativeSurfaceSpeed, materialSpeeds, spindleSpeedRpm } from './shop-math';
-import { solveModel, type SolveOptions } from './solve';
+import { prepareModel, solvePrepared, type SolveOptions } from './solve';
 import {
   clearanceFor,
   percentThreadFor,
@@ -601,7 +601,12 @@ export function evaluateFeatures(input: unknown, options: SolveOptions = {}): Fe
     pending.push(p);
   }
 
-  const result = solveModel({ ...model, dimensions: dims, relations: rels }, options);
+  // The model was read above; its hidden positions are not counted against the model's size
+  // limits (a model at its limit with features still has its shop sheet).
+  const result = solvePrepared(
+    prepareModel({ ...model, dimensions: dims, relations: rels }),
+    options,
+  );
   const slotByName = new Map(slots.map((s) => [s.name, s]));
   for (const e of result.errors) {
     const slot = e.relation ? slotByName.get(e.relation) : undefined;

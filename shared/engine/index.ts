@@ -29,6 +29,7 @@ export {
   bindRelation,
   clearRelationCache,
   ExpressionError,
+  EXPRESSION_LIMITS,
   RESERVED_NAMES,
   sinDeg,
   cosDeg,
@@ -53,8 +54,11 @@ export {
   impliedTolerance,
   scaledTolerance,
   DIMENSION_NAME,
+  MODEL_LIMITS,
 } from './model';
 export type {
+  LimitIssueParams,
+  ModelLimit,
   FairsheetModel,
   FairsheetModelInput,
   ModelDimension,

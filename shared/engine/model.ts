@@ -3,7 +3,64 @@
  * tolerance rules that give a tolerance to a value written without one.
  */
 import { z } from 'zod';
+import { EXPRESSION_LIMITS } from './expression';
 import { quantityIn, type ModelUnit, type Quantity } from './quantity';
+
+/**
+ * How large a model may be. A whole locomotive's drawing set has a few hundred to a couple of
+ * thousand dimensions and a few hundred holes; the limits leave about five times that. They
+ * keep one saved or posted model from holding the solver (and every page that solves it) for
+ * long: a solve grows with the dimensions, relations and holes, and a Monte Carlo with samples ×
+ * dimensions. The engine's own benchmarks (10,000 dimensions) stay inside them.
+ */
+export const MODEL_LIMITS = Object.freeze({
+  dimensions: 10_000,
+  relations: 10_000,
+  parts: 1_000,
+  features: 5_000,
+  /** Holes of all features, each hole of a pattern counted: each is two positions to solve. */
+  holes: 20_000,
+  /** Characters of a relation (see EXPRESSION_LIMITS for depth and arguments). */
+  relationCharacters: EXPRESSION_LIMITS.relationCharacters,
+  /** Characters of a position, size or depth expression. */
+  expressionCharacters: EXPRESSION_LIMITS.characters,
+  /**
+   * Samples × dimensions of one Monte Carlo on the server: each sample re-solves the model, so
+   * this bounds its time (20,000 samples of a 100-dimension model, 2,000 of a 1,000-dimension one).
+   */
+  monteCarloWork: 2_000_000,
+});
+export type ModelLimit = keyof typeof MODEL_LIMITS;
+
+/**
+ * What a refused limit carries in its zod issue's `params`: the limit's name, and whether the
+ * text is too large ('size') or asks for too much work ('work'), so the server can answer
+ * 413 or 422 rather than a plain 400.
+ */
+export interface LimitIssueParams {
+  limit: ModelLimit;
+  kind: 'size' | 'work';
+}
+
+const thousands = (n: number) => n.toLocaleString('en-GB');
+
+/**
+ * The refinement arguments that hold a string's or array's length to a limit. `when` runs it
+ * also when items inside have issues of their own: an oversized model is refused as such.
+ */
+export function lengthLimit(limit: ModelLimit, owner: string, noun: string) {
+  const max = MODEL_LIMITS[limit];
+  const params: LimitIssueParams = { limit, kind: 'size' };
+  return [
+    (v: { length: number }) => v.length <= max,
+    {
+      params,
+      when: (p: { value: unknown }) => typeof p.value === 'string' || Array.isArray(p.value),
+      error: (iss: { input?: unknown }) =>
+        `${owner} has at most ${thousands(max)} ${noun}; this one has ${thousands((iss.input as { length: number }).length)}`,
+    },
+  ] as const;
+}
 
 /**
  * Dimension names are identifiers, optionally qualified by a part: `bolt_x` or
@@ -60,7 +117,7 @@ export const dimensionSchema = z.discriminatedUnion('kind', [givenDimension, der
 
 export const relationSchema = z.object({
   id: z.string().min(1, 'a relation needs an id'),
-  expr: z.string(),
+  expr: z.string().refine(...lengthLimit('relationCharacters', 'a relation', 'characters')),
   enabled: z.boolean().default(true),
   note: z.string().optional(),
 });
@@ -104,7 +161,14 @@ const identifier = z
   .regex(/^[A-Za-z_][A-Za-z0-9_]*$/, 'an id is a letter or _ followed by letters, digits or _');
 
 /** An expression over dimension names (`horn1_x - horn_gap / 2`), or a number in the model unit. */
-const positionExpr = z.union([z.number().finite(), z.string().trim().min(1, 'give a position')]);
+const positionExpr = z.union([
+  z.number().finite(),
+  z
+    .string()
+    .trim()
+    .min(1, 'give a position')
+    .refine(...lengthLimit('expressionCharacters', 'an expression', 'characters')),
+]);
 
 /**
  * A part of the project: what is machined, from what, how many, and whether it is machined
@@ -177,13 +241,38 @@ export const modelSchema = z.object({
   format: z.literal('fairsheet.model'),
   version: z.literal(1),
   units: z.enum(['in', 'mm']),
-  dimensions: z.array(dimensionSchema),
-  relations: z.array(relationSchema).default([]),
+  dimensions: z
+    .array(dimensionSchema)
+    .refine(...lengthLimit('dimensions', 'a model', 'dimensions')),
+  relations: z
+    .array(relationSchema)
+    .refine(...lengthLimit('relations', 'a model', 'relations'))
+    .default([]),
   defaults: toleranceDefaultsSchema.partial().optional(),
   /** Parts and their features (optional: a model may be dimensions and relations only). */
-  parts: z.array(partSchema).default([]),
-  features: z.array(featureSchema).default([]),
+  parts: z
+    .array(partSchema)
+    .refine(...lengthLimit('parts', 'a model', 'parts'))
+    .default([]),
+  features: z
+    .array(featureSchema)
+    .refine(...lengthLimit('features', 'a model', 'features'))
+    .refine((features) => holeCount(features) <= MODEL_LIMITS.holes, {
+      params: { limit: 'holes', kind: 'size' } satisfies LimitIssueParams,
+      // Only over features that read: a pattern's own count limit speaks for a wild count.
+      when: (p) => p.issues.length === 0,
+      error: (iss) =>
+        `a model has at most ${thousands(MODEL_LIMITS.holes)} holes, each hole of a pattern counted; this one has ${thousands(holeCount(iss.input as ModelFeature[]))}`,
+    })
+    .default([]),
 });
+
+/** Holes of all features, a pattern's counted one by one. */
+function holeCount(features: ReadonlyArray<{ pattern?: { count: number } }>): number {
+  let n = 0;
+  for (const f of features) n += f.pattern?.count ?? 1;
+  return n;
+}
 
 /** A model as read (defaults filled in). */
 export type FairsheetModel = z.infer<typeof modelSchema>;

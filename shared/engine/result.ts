@@ -97,6 +97,7 @@ export type EngineErrorCode =
   | 'unknown-name'
   | 'unit-mismatch'
   | 'division-by-zero'
+  | 'over-limit'
   | 'not-finite'
   | 'singular'
   | 'no-convergence';
