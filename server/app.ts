@@ -209,10 +209,18 @@ export function createApp(deps: AppDeps): Express {
     sheetRoutes(db, sheets, { maxBytes: uploadMaxBytes, tempDir: deps.uploadTempDir }),
     teamRoutes(db, team, deps.invitationLimits),
     // A bundle carries every file of a project: up to 20 uploads' worth.
-    bundleRoutes(db, createBundleService({ db, storage, models, sheets, ...team }), {
-      maxBytes: uploadMaxBytes * 20,
-      tempDir: deps.uploadTempDir,
-    }),
+    bundleRoutes(
+      db,
+      createBundleService({
+        db,
+        storage,
+        sheets,
+        ...team,
+        tempDir: deps.uploadTempDir,
+        limits: { maxFileBytes: uploadMaxBytes },
+      }),
+      { maxBytes: uploadMaxBytes * 20, tempDir: deps.uploadTempDir },
+    ),
   );
   api.use(() => {
     throw notFound('That API route');

@@ -1,8 +1,12 @@
-import { and, desc, eq, isNull, sql } from 'drizzle-orm';
+import { and, desc, eq, isNull, sql, type AnyColumn } from 'drizzle-orm';
 import type { Db } from './client';
 import type { DbOrTx } from './models';
 import { memberships, projects, sheets, users } from './schema';
 import { activity, checks, comments, corrections, invitations } from './schema-team';
+
+/** The account's name, or for a row imported from a bundle the name recorded there. */
+export const recordedName = (authorName: AnyColumn) =>
+  sql<string | null>`coalesce(${users.name}, ${authorName})`;
 
 // Invitations
 
@@ -165,10 +169,10 @@ export async function listChecks(db: Db, projectId: string) {
       revision: checks.revision,
       createdAt: checks.createdAt,
       userId: checks.userId,
-      userName: users.name,
+      userName: recordedName(checks.authorName),
     })
     .from(checks)
-    .innerJoin(users, eq(users.id, checks.userId))
+    .leftJoin(users, eq(users.id, checks.userId))
     .where(eq(checks.projectId, projectId))
     .orderBy(checks.dimension);
 }
@@ -241,7 +245,7 @@ export async function listComments(
       mentions: comments.mentions,
       createdAt: comments.createdAt,
       userId: comments.userId,
-      userName: users.name,
+      userName: recordedName(comments.authorName),
     })
     .from(comments)
     .leftJoin(users, eq(users.id, comments.userId))
@@ -269,7 +273,7 @@ export async function listCorrections(db: Db, projectId: string) {
       sourceNote: corrections.sourceNote,
       createdAt: corrections.createdAt,
       userId: corrections.userId,
-      userName: users.name,
+      userName: recordedName(corrections.authorName),
       sheetTitle: sheets.title,
     })
     .from(corrections)
@@ -310,7 +314,7 @@ export async function listActivity(
       details: activity.details,
       createdAt: activity.createdAt,
       userId: activity.userId,
-      userName: users.name,
+      userName: recordedName(activity.authorName),
     })
     .from(activity)
     .leftJoin(users, eq(users.id, activity.userId))

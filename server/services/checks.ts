@@ -28,7 +28,7 @@ export function createCheckService(db: Db, models: ModelService, activity: Activ
         state: text !== null && fingerprintOf(text) === r.fingerprint ? 'current' : 'void',
         value: r.value,
         valueNow: result.values[r.dimension]?.value ?? null,
-        checkedBy: { id: r.userId, name: r.userName },
+        checkedBy: { id: r.userId ?? '', name: r.userName ?? 'a former member' },
         checkedAt: r.createdAt.toISOString(),
         revision: r.revision,
       };

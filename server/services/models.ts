@@ -186,7 +186,7 @@ export function createModelService(db: Db, activity?: ActivityService) {
       revision: r.revision,
       createdAt: r.createdAt.toISOString(),
       summary: r.summary,
-      user: r.userId ? { id: r.userId, name: r.userName ?? '' } : null,
+      user: r.userId || r.userName ? { id: r.userId ?? '', name: r.userName ?? '' } : null,
     }));
   }
 
@@ -197,7 +197,7 @@ export function createModelService(db: Db, activity?: ActivityService) {
       revision: row.revision,
       createdAt: row.createdAt.toISOString(),
       summary: row.summary,
-      user: row.userId ? { id: row.userId, name: row.userName ?? '' } : null,
+      user: row.userId || row.userName ? { id: row.userId ?? '', name: row.userName ?? '' } : null,
       diff: row.diff,
       model: row.model as FairsheetModel,
     };
