@@ -1,6 +1,7 @@
 import { and, desc, eq, sql } from 'drizzle-orm';
 import type { Db } from './client';
 import { modelRevisions, projectModels, projects, users } from './schema';
+import { recordedName } from './team';
 
 type Tx = Parameters<Parameters<Db['transaction']>[0]>[0];
 export type DbOrTx = Db | Tx;
@@ -96,7 +97,7 @@ export async function listRevisions(db: Db, projectId: string) {
       createdAt: modelRevisions.createdAt,
       summary: modelRevisions.summary,
       userId: modelRevisions.userId,
-      userName: users.name,
+      userName: recordedName(modelRevisions.authorName),
     })
     .from(modelRevisions)
     .leftJoin(users, eq(users.id, modelRevisions.userId))
@@ -113,7 +114,7 @@ export async function findRevision(db: Db, projectId: string, revision: number) 
       diff: modelRevisions.diff,
       model: modelRevisions.model,
       userId: modelRevisions.userId,
-      userName: users.name,
+      userName: recordedName(modelRevisions.authorName),
     })
     .from(modelRevisions)
     .leftJoin(users, eq(users.id, modelRevisions.userId))

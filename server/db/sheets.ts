@@ -17,13 +17,18 @@ const flatten = (r: { sheet: SheetRow; file: FileRow }): SheetWithFile => ({
 
 /**
  * Adds the file's row, or locks the one already there, until the transaction ends: a sheet
- * being deleted elsewhere cannot drop the file while this upload comes to use it.
+ * being deleted elsewhere cannot drop the file while this upload comes to use it. The type and
+ * size are those just read from the bytes, so they replace what the row held: a row written
+ * before every file was inspected (a bundle's listed type, trusted) is mended by the next use.
  */
 export async function lockOrInsertFile(tx: Tx, values: FileValues) {
   await tx
     .insert(files)
     .values(values)
-    .onConflictDoUpdate({ target: files.sha256, set: { sha256: sql`excluded.sha256` } });
+    .onConflictDoUpdate({
+      target: files.sha256,
+      set: { mimeType: sql`excluded.mime_type`, sizeBytes: sql`excluded.size_bytes` },
+    });
 }
 
 /** Locks a file's row for the rest of the transaction; undefined when it is gone. */

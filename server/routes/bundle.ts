@@ -37,9 +37,13 @@ export function bundleRoutes(db: Db, bundles: BundleService, upload: UploadOptio
     try {
       const user = await findUserById(db, req.session.userId!);
       if (!user) throw unauthenticated();
-      res
-        .status(201)
-        .json(await bundles.importProject(file.path, { id: user.id, name: user.name }));
+      res.status(201).json(
+        await bundles.importProject(file.path, {
+          id: user.id,
+          name: user.name,
+          email: user.email,
+        }),
+      );
     } finally {
       await unlink(file.path).catch(() => undefined);
     }

@@ -32,7 +32,8 @@ export function createActivityService(db: Db) {
         kind: r.kind as ActivityKind,
         summary: r.summary,
         details: r.details,
-        user: r.userId ? { id: r.userId, name: r.userName ?? '' } : null,
+        // An entry imported from a bundle has no account, only the name recorded there.
+        user: r.userId || r.userName ? { id: r.userId ?? '', name: r.userName ?? '' } : null,
         createdAt: r.createdAt.toISOString(),
       }));
     },

@@ -138,6 +138,23 @@ export function createSheetService({ db, storage, limits }: SheetServiceOptions)
   }
 
   /**
+   * What a file is, from its bytes: type, pages and their pixel sizes, hash and size. Refuses
+   * (415 or 422, naming the file) what an upload would refuse; a bundle's files come here too.
+   */
+  async function inspect(source: UploadSource) {
+    const name = sanitiseFileName(source.originalName);
+    const bytes = 'bytes' in source ? source.bytes : await readFile(source.path);
+    let inspection: Inspection;
+    try {
+      inspection = await inspectFile(bytes, inspectLimits);
+    } catch (err) {
+      if (err instanceof InspectionError) throw refusal(name, err);
+      throw err;
+    }
+    return { name, inspection, ...(await hashSource(bytes)) };
+  }
+
+  /**
    * Inspects every file first and refuses the whole upload if any one is refused, so nothing
    * is stored then. Accepted files are stored once per content and make one sheet per page, in
    * one transaction that holds each file's row locked while its blob is written.
@@ -155,18 +172,7 @@ export function createSheetService({ db, storage, limits }: SheetServiceOptions)
       sizeBytes: number;
       inspection: Inspection;
     }[] = [];
-    for (const source of sources) {
-      const name = sanitiseFileName(source.originalName);
-      const bytes = 'bytes' in source ? source.bytes : await readFile(source.path);
-      let inspection: Inspection;
-      try {
-        inspection = await inspectFile(bytes, inspectLimits);
-      } catch (err) {
-        if (err instanceof InspectionError) throw refusal(name, err);
-        throw err;
-      }
-      accepted.push({ source, name, inspection, ...(await hashSource(bytes)) });
-    }
+    for (const source of sources) accepted.push({ source, ...(await inspect(source)) });
 
     const distinct = [...new Map(accepted.map((a) => [a.sha256, a])).values()].sort((a, b) =>
       a.sha256 < b.sha256 ? -1 : 1,
@@ -347,7 +353,18 @@ export function createSheetService({ db, storage, limits }: SheetServiceOptions)
     };
   }
 
-  return { list, get, upload, update, remove, releaseFiles, removeUnusedFiles, file };
+  return {
+    list,
+    get,
+    inspect,
+    upload,
+    update,
+    remove,
+    releaseFile,
+    releaseFiles,
+    removeUnusedFiles,
+    file,
+  };
 }
 
 export type SheetService = ReturnType<typeof createSheetService>;
