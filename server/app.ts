@@ -30,6 +30,7 @@ import { createModelService } from './services/models';
 import { createProjectService } from './services/projects';
 import { createSheetService } from './services/sheets';
 import { createShopSheetService } from './services/shop-sheet';
+import { defaultSolvePool, type SolvePool } from './solve/pool';
 import { createLocalStorage } from './storage/local';
 import type { BlobStorage } from './storage/storage';
 
@@ -55,6 +56,8 @@ export interface AppDeps {
   logLevel?: 'silent' | 'error' | 'warn' | 'info' | 'debug';
   /** Solves one user may ask for a minute (default 120). */
   solvesPerMinute?: number;
+  /** Where every solve runs (default: the process's pool, sized to the cores). */
+  solver?: SolvePool;
   /** Sign-in and registration limits per client address and e-mail (defaults in routes/auth). */
   authLimits?: Partial<AuthLimits>;
   /** Invitations and resends per project and per address (defaults in routes/team). */
@@ -142,7 +145,8 @@ export function createApp(deps: AppDeps): Express {
     appUrl: deps.appUrl,
   });
   const activity = createActivityService(db);
-  const models = createModelService(db, activity);
+  const solver = deps.solver ?? defaultSolvePool();
+  const models = createModelService(db, activity, solver);
   const storage = deps.storage ?? createLocalStorage('uploads');
   const sheets = createSheetService({ db, storage });
   const projects = createProjectService(db, models, sheets.releaseFiles);
@@ -169,7 +173,7 @@ export function createApp(deps: AppDeps): Express {
   api.use(sessionMiddleware({ pool, secret: deps.sessionSecret, secure: deps.production }));
   api.use(requireCsrf);
   api.use('/auth', authRoutes(db, auth, deps.authLimits));
-  api.use(engineRoutes(db, { solvesPerMinute: deps.solvesPerMinute }));
+  api.use(engineRoutes(db, solver, { solvesPerMinute: deps.solvesPerMinute }));
   api.use('/invitations', invitationLinkRoutes(db, invitations));
   api.use(
     '/projects',
@@ -179,10 +183,11 @@ export function createApp(deps: AppDeps): Express {
     shopSheetRoutes(
       db,
       createShopSheetService(models, {
+        solver,
         // Each row shows its checks, and the title block the corrections of the source sheets.
-        reviews: async (projectId) => {
+        reviews: async (projectId, stored) => {
           const [{ checks }, corrections] = await Promise.all([
-            team.checks.list(projectId),
+            team.checks.list(projectId, stored),
             team.corrections.list(projectId),
           ]);
           const byName = new Map(

@@ -24,6 +24,10 @@ const schema = z.object({
   TRUST_PROXY: z.string().optional(),
   /** POST /api/solve per signed-in user per minute. */
   SOLVE_RATE_LIMIT: z.coerce.number().int().positive().default(120),
+  /** Wall-clock limit of one server solve (save, history, shop sheet, import, POST /api/solve). */
+  SOLVE_TIME_LIMIT_SECONDS: z.coerce.number().positive().max(600).default(10),
+  /** Solve threads; unset: one a core. */
+  SOLVE_THREADS: z.coerce.number().int().min(1).max(256).optional(),
   /** How long a stop (SIGTERM, Ctrl-C) waits for requests in flight before cutting them off. */
   SHUTDOWN_GRACE_SECONDS: z.coerce.number().positive().max(600).default(10),
   LOG_LEVEL: z.enum(['silent', 'error', 'warn', 'info', 'debug']).default('info'),

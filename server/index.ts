@@ -11,14 +11,15 @@ import { createGracefulServer } from './http/graceful';
 import { createMailer } from './mail/mailer';
 import { startMailSink, type MailSink } from './mail/sink';
 import { createSheetService } from './services/sheets';
+import { createSolvePool } from './solve/pool';
 import { storageFromEnv } from './storage';
 
 export interface RunningServer {
   url: string;
   /**
    * Stops taking connections, lets the requests in flight finish (at most
-   * SHUTDOWN_GRACE_SECONDS), then closes the mail sink and the database pool: no request
-   * ever finds the pool closed.
+   * SHUTDOWN_GRACE_SECONDS), then ends the solve threads and closes the mail sink and the
+   * database pool: no request ever finds the pool closed.
    */
   close(): Promise<void>;
 }
@@ -50,11 +51,15 @@ export async function startServer(env: Env, databaseUrl: string): Promise<Runnin
   const hasher = createPasswordHasher(env.BCRYPT_COST);
   const appUrl = env.APP_URL ?? `http://${env.HOST}:${env.PORT}`;
   const storage = storageFromEnv(env);
+  const solver = createSolvePool({
+    size: env.SOLVE_THREADS,
+    timeLimitMs: env.SOLVE_TIME_LIMIT_SECONDS * 1000,
+  });
   // Files left by deleted projects (their sheets went with them; the stored bytes did not).
   const swept = await createSheetService({ db: database.db, storage }).removeUnusedFiles();
   if (swept) console.log(`[fairsheet] removed ${swept} stored files no sheet uses`);
   if (env.FAIRSHEET_SEED_DEMO) {
-    const seeded = await seedDemo(database.db, hasher, storage);
+    const seeded = await seedDemo(database.db, hasher, storage, solver);
     if (seeded) console.log(`[fairsheet] demo data created`);
   }
 
@@ -73,6 +78,7 @@ export async function startServer(env: Env, databaseUrl: string): Promise<Runnin
     trustProxy: env.TRUST_PROXY,
     logLevel: env.LOG_LEVEL,
     solvesPerMinute: env.SOLVE_RATE_LIMIT,
+    solver,
   });
 
   const server = createGracefulServer(app);
@@ -87,6 +93,7 @@ export async function startServer(env: Env, databaseUrl: string): Promise<Runnin
           `[fairsheet] ${cut} requests still running after ${env.SHUTDOWN_GRACE_SECONDS} s were cut off`,
         );
       }
+      await solver.close();
       await sink?.close();
       // pool.end() waits for every client in use; a request cut off while it waits on a lock
       // would otherwise hold the process up for good.

@@ -9,6 +9,7 @@ import { createCheckService } from '../services/checks';
 import { createCorrectionService } from '../services/corrections';
 import { createModelService } from '../services/models';
 import { createProjectService } from '../services/projects';
+import type { SolvePool } from '../solve/pool';
 import type { BlobStorage } from '../storage/storage';
 import { kestrelModel } from './kestrel-model';
 import { seedDemoSheets } from './sheets';
@@ -77,18 +78,20 @@ async function ensureUser(db: Db, hasher: PasswordHasher, who: { email: string; 
 
 /**
  * Creates the demo accounts, project and model once; answers whether anything was created.
- * With a storage, the project also gets its drawing and photo sheets.
+ * With a storage, the project also gets its drawing and photo sheets. The model is solved on
+ * `solver` (default: the process's pool).
  */
 export async function seedDemo(
   db: Db,
   hasher: PasswordHasher,
   storage?: BlobStorage,
+  solver?: SolvePool,
 ): Promise<boolean> {
   const builder = await ensureUser(db, hasher, demoBuilder);
   const checker = await ensureUser(db, hasher, demoChecker);
   if (await findProjectByName(db, demoProjectName)) return builder.created || checker.created;
   const activity = createActivityService(db);
-  const models = createModelService(db, activity);
+  const models = createModelService(db, activity, solver);
   const projects = createProjectService(db, models);
   const project = await projects.create(builder.user.id, {
     name: demoProjectName,

@@ -1,25 +1,23 @@
 import { Router } from 'express';
 import { rateLimit } from 'express-rate-limit';
-import {
-  clearanceFor,
-  solveModel,
-  tapDrillFor,
-  threadByDesignation,
-  ThreadError,
-} from '@shared/engine';
+import { clearanceFor, tapDrillFor, threadByDesignation, ThreadError } from '@shared/engine';
 import { solveBody, threadParams, threadQuery } from '@shared/api';
 import { requireUser } from '../auth/session';
 import type { Db } from '../db/client';
 import { PostgresRateLimitStore } from '../db/rate-limit-store';
 import { AppError, badRequest, notFound } from '../http/errors';
 import { validate } from '../http/validate';
+import type { SolvePool } from '../solve/pool';
 
-/** A solve holds a core; the cap keeps one caller from holding them all. Bodies are capped at
- * 2 MB by the API's JSON parser. */
-const solveTimeLimitMs = 2000;
-
-/** Stateless engine surfaces: solve a posted model, and the thread and drill tables. */
-export function engineRoutes(db: Db, options: { solvesPerMinute?: number } = {}): Router {
+/**
+ * Stateless engine surfaces: solve a posted model, and the thread and drill tables. A solve runs
+ * on the pool's threads under its time limit; bodies are capped at 2 MB by the API's JSON parser.
+ */
+export function engineRoutes(
+  db: Db,
+  solver: SolvePool,
+  options: { solvesPerMinute?: number } = {},
+): Router {
   const router = Router();
 
   router.post(
@@ -44,9 +42,9 @@ export function engineRoutes(db: Db, options: { solvesPerMinute?: number } = {})
         ),
     }),
     validate({ body: solveBody }),
-    (req, res) => {
+    async (req, res) => {
       const { model, monteCarlo } = req.body;
-      res.json(solveModel(model, { timeLimitMs: solveTimeLimitMs, monteCarlo }));
+      res.type('json').send(await solver.solveJson(model, { monteCarlo }));
     },
   );
 

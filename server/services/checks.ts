@@ -5,7 +5,7 @@ import type { Db } from '../db/client';
 import * as repo from '../db/team';
 import { badRequest, notFound } from '../http/errors';
 import type { ActivityService } from './activity';
-import type { ModelService } from './models';
+import type { ModelService, StoredModel } from './models';
 
 const fingerprintOf = (text: string) => createHash('sha256').update(text).digest('hex');
 
@@ -15,10 +15,11 @@ const fingerprintOf = (text: string) => createHash('sha256').update(text).digest
  * upstream changed ("needs re-check"), without anyone having to remember.
  */
 export function createCheckService(db: Db, models: ModelService, activity: ActivityService) {
-  async function list(projectId: string) {
+  /** `known`: the stored model the caller has read already (the shop sheet shows its positions). */
+  async function list(projectId: string, known?: StoredModel) {
     const [rows, stored] = await Promise.all([
       repo.listChecks(db, projectId),
-      models.current(projectId),
+      known ?? models.current(projectId),
     ]);
     const result = stored.result as SolveResult;
     const checks: Check[] = rows.map((r) => {

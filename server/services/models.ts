@@ -2,7 +2,6 @@ import {
   diffModels,
   isEmptyDiff,
   movedValues,
-  solveModel,
   summariseDiff,
   type FairsheetModel,
   type SolveResult,
@@ -14,10 +13,8 @@ import { emptyModel } from '@shared/api';
 import type { Db } from '../db/client';
 import * as repo from '../db/models';
 import { conflict, notFound } from '../http/errors';
+import { defaultSolvePool, type SolvePool } from '../solve/pool';
 import type { ActivityService } from './activity';
-
-/** Server solves have a time cap so one pathological model cannot hold a request. */
-const solveOptions = { timeLimitMs: 2000 };
 
 /**
  * A save's answer: each value with its stack-up, without the traces and contributors (which grow
@@ -63,7 +60,15 @@ export interface StoredModel {
   updatedBy: string | null;
 }
 
-export function createModelService(db: Db, activity?: ActivityService) {
+/**
+ * `solver`: where models are solved (default: the process's pool), never on this thread; its
+ * cache makes a revision's solve once, for the save, the history's comparisons and the import.
+ */
+export function createModelService(
+  db: Db,
+  activity?: ActivityService,
+  solver: SolvePool = defaultSolvePool(),
+) {
   /** Writes the first revision of a new project's model, inside the project's transaction. */
   async function initialise(
     tx: repo.DbOrTx,
@@ -72,7 +77,7 @@ export function createModelService(db: Db, activity?: ActivityService) {
     userId: string,
   ) {
     const model = emptyModel(units);
-    await repo.insertModel(tx, projectId, model, solveModel(model, solveOptions), userId);
+    await repo.insertModel(tx, projectId, model, await solver.solve(model), userId);
     await repo.insertRevision(tx, {
       projectId,
       revision: 0,
@@ -148,6 +153,8 @@ export function createModelService(db: Db, activity?: ActivityService) {
     model: FairsheetModel,
     note?: string,
   ): Promise<{ revision: number; result: ReturnType<typeof slimResult>; summary: string }> {
+    // Solved before the row lock is taken: a solve waiting for a thread holds no connection.
+    const result = await solver.solve(model);
     return db.transaction(async (tx) => {
       const locked = await repo.lockModel(tx, projectId);
       if (!locked) throw notFound('The model');
@@ -159,7 +166,6 @@ export function createModelService(db: Db, activity?: ActivityService) {
       }
       const previous = locked.model as FairsheetModel;
       const diff = diffModels(previous, model);
-      const result = solveModel(model, solveOptions);
       if (isEmptyDiff(diff) && !note)
         return { revision: locked.revision, result: slimResult(result), summary: 'no change' };
       const revision = locked.revision + 1;
@@ -207,7 +213,8 @@ export function createModelService(db: Db, activity?: ActivityService) {
   async function compare(projectId: string, from: number, to: number) {
     const [a, b] = await Promise.all([revision(projectId, from), revision(projectId, to)]);
     const diff = diffModels(a.model, b.model);
-    const moved = movedValues(solveModel(a.model, solveOptions), solveModel(b.model, solveOptions));
+    const [before, after] = await Promise.all([solver.solve(a.model), solver.solve(b.model)]);
+    const moved = movedValues(before, after);
     return { from, to, diff, moved, summary: summariseDiff(diff, 20) };
   }
 
@@ -217,7 +224,18 @@ export function createModelService(db: Db, activity?: ActivityService) {
     return save(projectId, userId, baseRevision, old.model, `restored revision ${target}`);
   }
 
-  return { initialise, current, currentJson, save, history, revision, compare, restore };
+  return {
+    initialise,
+    current,
+    currentJson,
+    save,
+    history,
+    revision,
+    compare,
+    restore,
+    /** A model's result, solved off this thread (or remembered from an earlier solve). */
+    solve: (model: unknown) => solver.solve(model),
+  };
 }
 
 export type ModelService = ReturnType<typeof createModelService>;

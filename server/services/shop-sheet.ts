@@ -1,5 +1,4 @@
 import {
-  evaluateFeatures,
   type FairsheetModel,
   type FeatureLength,
   type FeatureResult,
@@ -19,7 +18,8 @@ import {
 import type { ProjectRow } from '../db/schema';
 import { toCsv } from '../http/csv';
 import { renderShopSheetPdf } from '../pdf/shop-sheet';
-import type { ModelService } from './models';
+import { defaultSolvePool, type SolvePool } from '../solve/pool';
+import type { ModelService, StoredModel } from './models';
 
 /**
  * What a second person has signed off. Looked up by feature id first, then by the dimension
@@ -41,6 +41,8 @@ export interface ShopSheetInput {
   date: string;
   derivedBy: string | null;
   model: FairsheetModel;
+  /** The model's features evaluated (`evaluateFeatures`), on the solve pool's threads. */
+  features: FeaturesResult;
 }
 
 export const SHEET_CAUTIONS = [
@@ -192,7 +194,7 @@ function groupCheck(rows: ShopSheetRow[]): ShopSheetGroup['check'] {
  */
 export function buildShopSheet(input: ShopSheetInput, reviews: ShopSheetReviews = {}): ShopSheet {
   const units = input.model.units;
-  const evaluated: FeaturesResult = evaluateFeatures(input.model);
+  const evaluated = input.features;
   const featureById = new Map(evaluated.features.map((f) => [f.id, f]));
 
   const groups: ShopSheetGroup[] = evaluated.groups.map((g) => {
@@ -342,13 +344,25 @@ export function shopSheetCsv(sheet: ShopSheet): string {
   return toCsv(records, SHOP_SHEET_CSV_COLUMNS);
 }
 
+/**
+ * `reviews` are judged against the revision whose positions the sheet shows (passed in), so a
+ * save between two reads cannot pair one revision's checks with another's positions. `solver`
+ * evaluates the features (default: the process's pool), once per revision while it is cached.
+ */
 export function createShopSheetService(
   models: ModelService,
-  options: { reviews?: (projectId: string) => Promise<ShopSheetReviews> } = {},
+  options: {
+    reviews?: (projectId: string, stored: StoredModel) => Promise<ShopSheetReviews>;
+    solver?: SolvePool;
+  } = {},
 ) {
+  const solver = options.solver ?? defaultSolvePool();
   async function sheet(project: ProjectRow): Promise<ShopSheet> {
     const stored = await models.current(project.id);
-    const reviews = options.reviews ? await options.reviews(project.id) : {};
+    const [features, reviews] = await Promise.all([
+      solver.features(stored.model),
+      options.reviews ? options.reviews(project.id, stored) : {},
+    ]);
     return buildShopSheet(
       {
         project: { id: project.id, name: project.name, modelScale: project.modelScale ?? null },
@@ -356,6 +370,7 @@ export function createShopSheetService(
         date: stored.updatedAt,
         derivedBy: stored.updatedBy,
         model: stored.model,
+        features,
       },
       reviews,
     );
