@@ -536,6 +536,13 @@ function checkLength(text: string, limit: number, what: string): void {
 /** Parsed relations by text: re-solving on every keystroke re-parses only what changed. */
 const cache = new Map<string, ParsedRelation | ExpressionError>();
 const CACHE_LIMIT = 20_000;
+/**
+ * Characters of all cached texts. A tree takes some fifty times its text's size, so 20,000
+ * relations at the character limit would hold gigabytes; real ones (a few dozen characters
+ * each) fill the entries long before this.
+ */
+const CACHE_CHARACTERS = 2_000_000;
+let cachedCharacters = 0;
 
 /**
  * Forgets cached parses (benchmarks call it to measure cold solves).
@@ -544,6 +551,7 @@ const CACHE_LIMIT = 20_000;
  */
 export function clearRelationCache(): void {
   cache.clear();
+  cachedCharacters = 0;
 }
 
 /**
@@ -568,8 +576,16 @@ export function parseRelation(text: string): ParsedRelation {
     if (!(e instanceof ExpressionError)) throw e;
     result = e;
   }
-  if (cache.size >= CACHE_LIMIT) cache.delete(cache.keys().next().value as string);
+  while (
+    cache.size > 0 &&
+    (cache.size >= CACHE_LIMIT || cachedCharacters + text.length > CACHE_CHARACTERS)
+  ) {
+    const oldest = cache.keys().next().value as string;
+    cache.delete(oldest);
+    cachedCharacters -= oldest.length;
+  }
   cache.set(text, result);
+  cachedCharacters += text.length;
   if (result instanceof ExpressionError) throw result;
   return result;
 }

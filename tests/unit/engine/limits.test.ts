@@ -117,6 +117,16 @@ describe('expression limits', () => {
     expect(refusal(() => parseRelation(deep))).toBe(cached);
   });
 
+  it('keeps the parse cache to a bounded number of characters, dropping the oldest first', () => {
+    const short = parseRelation('cache_probe = a + b');
+    // 600 relations of 3,800 characters each: 2.3 million, over the cache's two million.
+    const name = 'n'.repeat(15);
+    const long = (i: number) => `x${i} = ${Array(199).fill(`${name}1`).join(' + ')}`;
+    for (let i = 0; i < 600; i++) parseRelation(long(i));
+    expect(parseRelation(long(599))).toBe(parseRelation(long(599)));
+    expect(parseRelation('cache_probe = a + b')).not.toBe(short);
+  });
+
   it('refuses an over-long feature position beside the feature, and still evaluates the others', () => {
     const r = evaluateFeatures({
       ...modelWith('x = a + b'),
