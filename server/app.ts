@@ -223,6 +223,7 @@ export function createApp(deps: AppDeps): Express {
         ...team,
         tempDir: deps.uploadTempDir,
         limits: { maxFileBytes: uploadMaxBytes },
+        solver,
       }),
       { maxBytes: uploadMaxBytes * 20, tempDir: deps.uploadTempDir },
     ),

@@ -23,9 +23,10 @@ import type { Db } from '../db/client';
 import { findModel } from '../db/models';
 import { insertProject } from '../db/projects';
 import * as sheetRepo from '../db/sheets';
-import { diffModels, solveModel } from '@shared/engine';
+import { diffModels } from '@shared/engine';
 import { AppError, unprocessable } from '../http/errors';
 import { unstorableText } from '../http/validate';
+import { defaultSolvePool, type SolvePool } from '../solve/pool';
 import type { BlobStorage } from '../storage/storage';
 import type { ActivityService } from './activity';
 import type { InvitationService } from './invitations';
@@ -257,6 +258,8 @@ export function createBundleService(deps: {
   /** Where a bundle's files are expanded while checked (default: the system temp folder). */
   tempDir?: string;
   limits?: Partial<BundleLimits>;
+  /** Where the imported model is solved (default: the process's pool). */
+  solver?: SolvePool;
 }) {
   const { db, storage, sheets, invitations, activity } = deps;
   const limits: BundleLimits = { maxFileBytes: 60 * MB, ...deps.limits };
@@ -590,7 +593,7 @@ export function createBundleService(deps: {
           projectId: project.id,
           revision,
           model: remapped,
-          result: solveModel(remapped, { timeLimitMs: 2000 }),
+          result: await (deps.solver ?? defaultSolvePool()).solve(remapped),
           userId: user.id,
         });
         await bundleRepo.insertRecordedRevisions(
