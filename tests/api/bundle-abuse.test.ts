@@ -193,9 +193,8 @@ beforeAll(async () => {
     .set('X-CSRF-Token', owner.csrf)
     .attach('file', makePng(40, 30, 1), 'plan.png')
     .expect(201);
-  bundle = (
-    await owner.get(`/api/projects/${id}/export`).buffer(true).parse(binary).expect(200)
-  ).body as Buffer;
+  bundle = (await owner.get(`/api/projects/${id}/export`).buffer(true).parse(binary).expect(200))
+    .body as Buffer;
   // One import first, so what the app opens once and keeps (the pool, the PDF reader) is open.
   expect((await importBundle(bundle)).status).toBe(201);
 });
@@ -234,7 +233,9 @@ describe('bundle abuse', () => {
     await leavesNothing(async () => {
       const res = await importBundle(lying);
       expect(res.status).toBe(422);
-      expect(res.body.error.message).toMatch(/model\.json is (larger than its zip entry says|damaged)/);
+      expect(res.body.error.message).toMatch(
+        /model\.json is (larger than its zip entry says|damaged)/,
+      );
     });
   });
 

@@ -1,7 +1,13 @@
 import yazl from 'yazl';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { solveModel } from '@shared/engine';
-import { demoBuilder, demoPassword, demoProjectName, seedDemo } from '../../server/demo/seed';
+import {
+  demoBuilder,
+  demoChecker,
+  demoPassword,
+  demoProjectName,
+  seedDemo,
+} from '../../server/demo/seed';
 import { createTestApp, testHasher, TestClient, type TestApp } from '../helpers/app';
 
 let t: TestApp;
@@ -116,6 +122,106 @@ describe('project bundles', () => {
       .get(`/api/projects/${id}/sheets/${sb.body.sheets[0].id}/file`)
       .expect(200);
     expect(file.headers.etag).toContain(sb.body.sheets[0].file.sha256);
+  });
+
+  it('export then import keeps everything the project holds: every revision, checks, activity, comments with their mentions and authors, corrections, members as invitations', async () => {
+    // One more revision and a comment that mentions the checker (findMentions: '@Jo').
+    const current = (await builder.get(`/api/projects/${demoId}/model`)).body;
+    const model = structuredClone(current.model);
+    model.dimensions[0].note = 'checked against the casting';
+    await builder
+      .put(`/api/projects/${demoId}/model`, { revision: current.revision, model, note: 'A note' })
+      .expect(200);
+    await builder
+      .post(`/api/projects/${demoId}/comments`, {
+        targetKind: 'dimension',
+        targetId: 'horn2_x',
+        body: '@Jo this one moved with the bolt row',
+      })
+      .expect(201);
+    const res = await builder
+      .get(`/api/projects/${demoId}/export`)
+      .buffer(true)
+      .parse(binary)
+      .expect(200);
+    const imported = await importBundle(other, res.body as Buffer);
+    expect(imported.status).toBe(201);
+    const id = imported.body.id;
+    const both = async (url: string) => {
+      const [a, b] = await Promise.all([
+        builder.get(`/api/projects/${demoId}${url}`).expect(200),
+        other.get(`/api/projects/${id}${url}`).expect(200),
+      ]);
+      return [a.body, b.body];
+    };
+
+    // The whole history: the demo's two revisions and this test's save (3), authors as recorded.
+    const [ha, hb] = await both('/history');
+    const history = (h: { entries: { revision: number; summary: string; user: unknown }[] }) =>
+      h.entries.map((e) => ({
+        revision: e.revision,
+        summary: e.summary,
+        by: (e.user as { name: string } | null)?.name,
+      }));
+    expect(ha.entries.length).toBeGreaterThanOrEqual(3);
+    expect(history(hb)).toEqual(history(ha));
+    expect(history(hb).map((e) => e.by)).toContain(demoBuilder.name);
+    const [ma, mb] = await both('/model');
+    expect(mb.revision).toBe(ma.revision);
+
+    const [ca, cb] = await both('/checks');
+    const checks = (c: { checks: { dimension: string; state: string; value: number }[] }) =>
+      c.checks.map((x) => ({
+        dimension: x.dimension,
+        state: x.state,
+        value: x.value,
+        by: (x as unknown as { checkedBy: { name: string } }).checkedBy.name,
+      }));
+    expect(ca.checks.length).toBeGreaterThanOrEqual(2);
+    expect(checks(cb)).toEqual(checks(ca));
+    expect(cb.summary).toEqual(ca.summary);
+
+    const [cma, cmb] = await both('/comments');
+    const comments = (c: {
+      comments: { body: string; mentions: string[]; author: { name: string }; createdAt: string }[];
+    }) =>
+      c.comments.map((x) => ({
+        body: x.body,
+        mentions: x.mentions,
+        by: x.author.name,
+        at: x.createdAt,
+      }));
+    expect(comments(cmb)).toEqual(comments(cma));
+    expect(comments(cmb).at(-1)).toMatchObject({
+      by: demoBuilder.name,
+      mentions: [demoChecker.name],
+    });
+
+    const [cra, crb] = await both('/corrections');
+    const corrections = (c: { corrections: { wrong: string; author: { name: string } }[] }) =>
+      c.corrections.map((x) => ({ wrong: x.wrong, by: x.author.name }));
+    expect(corrections(crb)).toEqual(corrections(cra));
+    expect(corrections(crb)[0].by).toBe(demoBuilder.name);
+
+    // The time line as it was, then the import and the invitations it sent.
+    const [aa, ab] = await both('/activity?limit=500');
+    const line = (a: { entries: { summary: string; user: { name: string } | null }[] }) =>
+      a.entries.map((e) => `${e.user?.name ?? ''}: ${e.summary}`);
+    expect(line(ab)).toEqual(expect.arrayContaining(line(aa)));
+    expect(line(ab)).toContain('Sam Restorer: project imported from a bundle');
+
+    // Members come back as invitations to the same addresses and roles, not as members.
+    const members = (await builder.get(`/api/projects/${demoId}/members`)).body.members as {
+      email: string;
+      role: string;
+    }[];
+    const invited = (await other.get(`/api/projects/${id}/invitations`).expect(200)).body
+      .invitations as { email: string; role: string }[];
+    expect(invited.map((i) => [i.email, i.role]).sort()).toEqual(
+      members.map((m) => [m.email, m.role]).sort(),
+    );
+    const theirMembers = (await other.get(`/api/projects/${id}/members`)).body.members;
+    expect(theirMembers.map((m: { email: string }) => m.email)).toEqual(['restorer@example.com']);
   });
 
   it('refuses a file that is not a zip with 422 and creates nothing', async () => {
