@@ -105,7 +105,7 @@ describe('register and sign in', () => {
     });
     const fresh = await asker.post('/api/auth/register', {
       name: 'Someone',
-      email: 'not.taken@example.com',
+      email: 'free.address@example.com',
       password: 'another long password',
     });
     expect(taken.status).toBe(202);
