@@ -83,6 +83,12 @@ export async function startServer(env: Env, databaseUrl: string): Promise<Runnin
 
   const server = createGracefulServer(app);
   await server.listen(env.PORT, env.HOST);
+  // A thread takes a second or so to start: started now, the first solve does not wait for it.
+  solver
+    .warm()
+    .catch((err: Error) =>
+      console.error(`[fairsheet] solve threads did not start: ${err.message}`),
+    );
 
   return {
     url: appUrl,
