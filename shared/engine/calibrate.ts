@@ -13,10 +13,8 @@
  * does; a measurement's ± is what the stack-up then carries.
  */
 
+import { MM_PER_FT, MM_PER_IN } from './length';
 import { factorDense } from './numeric';
-
-const MM_PER_IN = 25.4;
-const MM_PER_FT = 304.8;
 
 /** A point on the sheet in pixels (x right, y down). */
 export interface SheetPoint {

@@ -17,7 +17,7 @@
  *   [common practice, no source]; the DIN 338 jobber range is sold in these steps [from memory].
  */
 
-const MM_PER_IN = 25.4;
+import { MM_PER_IN } from './length';
 
 /** The family a stock drill belongs to. */
 export type DrillFamily = 'metric' | 'number' | 'letter' | 'fractional';

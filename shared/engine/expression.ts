@@ -15,7 +15,7 @@
  * behave as tagged plain numbers (an angle plus a count is fine, `360 / n` may be an angle).
  */
 import { create, parseDependencies, type MathNode } from 'mathjs';
-import type { ModelUnit } from './quantity';
+import { MM_PER_IN, type ModelUnit } from './length';
 
 // One private instance holding only the parser; never the global mathjs instance.
 const math = create({ parseDependencies });
@@ -768,11 +768,11 @@ function unitFactor(u: UnitSymbol, unit: ModelUnit): { v: number; dim: UnitDim }
   const len = (mm: number, inch: number) => ({ v: unit === 'mm' ? mm : inch, dim: { L: 1, A: 0 } });
   switch (u) {
     case 'mm':
-      return len(1, 1 / 25.4);
+      return len(1, 1 / MM_PER_IN);
     case 'cm':
-      return len(10, 10 / 25.4);
+      return len(10, 10 / MM_PER_IN);
     case 'inch':
-      return len(25.4, 1);
+      return len(MM_PER_IN, 1);
     case 'thou':
     case 'mil':
       return len(0.0254, 0.001);

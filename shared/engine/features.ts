@@ -23,7 +23,8 @@ import {
   type ModelFeature,
   type ModelPart,
 } from './model';
-import { parseQuantity, quantityIn, type ModelUnit } from './quantity';
+import { convertLength, MM_PER_IN, type ModelUnit } from './length';
+import { parseQuantity, quantityIn } from './quantity';
 import type { Contributor, SolveStatus } from './result';
 import { conservativeSurfaceSpeed, materialSpeeds, spindleSpeedRpm } from './shop-math';
 import { prepareModel, solvePrepared, type SolveOptions } from './solve';
@@ -346,9 +347,9 @@ function drillFromText(
     if (q.dimension === 'angle') return undefined;
     // A plain number is in the model unit, as everywhere else in the model.
     const plain = quantityIn(q, units);
-    const sizeMm = q.dimension === 'plain' ? (units === 'in' ? plain * 25.4 : plain) : q.value;
+    const sizeMm = q.dimension === 'plain' ? convertLength(plain, units, 'mm') : q.value;
     if (!(sizeMm > 0)) return undefined;
-    return { label: text.trim(), mm: sizeMm, inch: sizeMm / 25.4 };
+    return { label: text.trim(), mm: sizeMm, inch: sizeMm / MM_PER_IN };
   } catch {
     return undefined;
   }

@@ -5,22 +5,29 @@
 export { nearlyEqual, NUMERIC_TOLERANCE, factorDense, factorSparse, factorRows } from './numeric';
 export type { LinearFactor, SparseRow } from './numeric';
 export {
-  parseQuantity,
-  quantityIn,
+  MM_PER_IN,
+  MM_PER_FT,
+  LENGTH_PLACES,
+  otherUnit,
   convertLength,
+  roundTo,
+  lengthNumber,
+  unitMark,
+  lengthText,
+  bothUnits,
+  formatLength,
+  toleranceText,
   nearestFraction,
   formatFraction,
-  formatLength,
-  suggestNominal,
-  QuantityError,
-} from './quantity';
+  fractionText,
+} from './length';
+export type { ModelUnit, NearestFraction } from './length';
+export { parseQuantity, quantityIn, suggestNominal, QuantityError } from './quantity';
 export type {
   Quantity,
   QuantityUnit,
   LengthUnit,
-  ModelUnit,
   WrittenForm,
-  NearestFraction,
   NominalSuggestion,
 } from './quantity';
 export {

@@ -4,7 +4,8 @@
  */
 import { z } from 'zod';
 import { EXPRESSION_LIMITS } from './expression';
-import { quantityIn, type ModelUnit, type Quantity } from './quantity';
+import { convertLength, type ModelUnit } from './length';
+import { quantityIn, type Quantity } from './quantity';
 
 /**
  * How large a model may be. A whole locomotive's drawing set has a few hundred to a couple of
@@ -327,12 +328,12 @@ export function impliedTolerance(
     } else {
       tolIn = defaults.inchFraction;
     }
-    return unit === 'in' ? tolIn : tolIn * 25.4;
+    return convertLength(tolIn, 'in', unit);
   }
   const mm = Math.abs(quantityIn(q, 'mm'));
   const ranges = defaults.mmRanges;
   const row = ranges.find((r) => mm <= r.upTo) ?? ranges[ranges.length - 1];
-  return unit === 'mm' ? row.tol : row.tol / 25.4;
+  return convertLength(row.tol, 'mm', unit);
 }
 
 /**
@@ -345,6 +346,6 @@ export function scaledTolerance(
   unit: ModelUnit,
   defaults: ToleranceDefaults,
 ): number {
-  const floor = unit === 'mm' ? defaults.scaledMinMm : defaults.scaledMinMm / 25.4;
+  const floor = convertLength(defaults.scaledMinMm, 'mm', unit);
   return Math.max(Math.abs(value) * defaults.scaledFraction, floor);
 }

@@ -7,11 +7,10 @@
  * Values are kept as a rational in the unit they were written in, and converted with a single
  * division, so 1/8 in gives 3.175 mm and 0.015 in gives 0.381 mm, correctly rounded.
  */
+import { MM_PER_IN, nearestFraction, type ModelUnit } from './length';
 
 export type LengthUnit = 'in' | 'ft' | 'thou' | 'mm' | 'cm';
 export type QuantityUnit = LengthUnit | 'deg';
-/** The unit a model works in. */
-export type ModelUnit = 'in' | 'mm';
 
 /** How the number was written: it decides the implied tolerance. */
 export type WrittenForm =
@@ -379,82 +378,6 @@ export function quantityIn(q: Quantity, unit: ModelUnit): number {
   return base === 'in' ? (num * 254) / (den * 10) : (num * 10) / (den * 254);
 }
 
-/**
- * Converts a length between model units, exactly by 25.4.
- *
- * @example convertLength(1, 'in', 'mm') // 25.4
- */
-export function convertLength(value: number, from: ModelUnit, to: ModelUnit): number {
-  if (from === to) return value;
-  return from === 'in' ? value * 25.4 : value / 25.4;
-}
-
-export interface NearestFraction {
-  /** e.g. `1 3/16`, `-3/8`, `2` */
-  text: string;
-  /** The fraction's exact value in inches. */
-  value: number;
-  numerator: number;
-  denominator: number;
-  whole: number;
-  /** value − input, inches. */
-  error: number;
-}
-
-/**
- * The nearest fraction of an inch with a power-of-two denominator up to `maxDenominator`,
- * reduced (so 0.5 gives 1/2, not 32/64).
- *
- * @example nearestFraction(1.1875).text // '1 3/16'
- */
-export function nearestFraction(inches: number, maxDenominator = 64): NearestFraction {
-  const sign = inches < 0 ? -1 : 1;
-  const abs = Math.abs(inches);
-  let num = Math.round(abs * maxDenominator);
-  let den = maxDenominator;
-  while (num % 2 === 0 && den > 1) {
-    num /= 2;
-    den /= 2;
-  }
-  const whole = Math.floor(num / den);
-  const rest = num - whole * den;
-  const value = (sign * num) / den;
-  let text: string;
-  if (rest === 0) text = String(whole);
-  else if (whole === 0) text = `${rest}/${den}`;
-  else text = `${whole} ${rest}/${den}`;
-  if (sign < 0 && num !== 0) text = `-${text}`;
-  return { text, value, numerator: rest, denominator: den, whole, error: value - inches };
-}
-
-/**
- * Formats inches as the nearest fraction to 1/64 (or a coarser power of two).
- *
- * @example formatFraction(0.1875) // '3/16'
- * @example formatFraction(2.5, 64, true) // '2 1/2"'
- */
-export function formatFraction(inches: number, maxDenominator = 64, withMark = false): string {
-  const t = nearestFraction(inches, maxDenominator).text;
-  return withMark ? `${t}"` : t;
-}
-
-/**
- * Formats a length held in `from` units as decimals of `to` units, with the unit.
- *
- * @example formatLength(4.7625, 'mm', 'in', 4) // '0.1875 in'
- * @example formatLength(0.015, 'in', 'mm', 3) // '0.381 mm'
- */
-export function formatLength(
-  value: number,
-  from: ModelUnit,
-  to: ModelUnit,
-  decimals = to === 'in' ? 4 : 3,
-): string {
-  const v = convertLength(value, from, to);
-  const s = (Object.is(v, -0) ? 0 : v).toFixed(decimals);
-  return `${s === `-${(0).toFixed(decimals)}` ? (0).toFixed(decimals) : s} ${to}`;
-}
-
 export interface NominalSuggestion {
   /** The fraction the writer probably meant, e.g. `3/16`. */
   text: string;
@@ -486,10 +409,10 @@ export function suggestNominal(
   const written = q.exact.num / q.exact.den;
   const isMm = q.exact.base === 'mm' || (q.exact.base === 'plain' && modelUnit === 'mm');
   const step = 10 ** -q.decimals * (q.unit === 'thou' ? 0.001 : 1);
-  const inches = isMm ? written / 25.4 : written;
+  const inches = isMm ? written / MM_PER_IN : written;
   for (let den = 2; den <= maxDenominator; den *= 2) {
     const f = Math.round(inches * den) / den;
-    const deltaInFamily = isMm ? f * 25.4 - written : f - inches;
+    const deltaInFamily = isMm ? f * MM_PER_IN - written : f - inches;
     if (f !== inches && Math.abs(deltaInFamily) <= step * (1 + 1e-9)) {
       const text = nearestFraction(f, den).text;
       return { text, inches: f, mm: (f * 254) / 10, delta: deltaInFamily };

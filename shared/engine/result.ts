@@ -3,7 +3,7 @@
  * residuals in the unit of their relation (a length relation's residual is a length).
  */
 import type { DimensionKind, QuantityKind } from './model';
-import type { ModelUnit } from './quantity';
+import type { ModelUnit } from './length';
 
 /** `invalid` (any error) > `contradictory` > `incomplete` > `solved`. */
 export type SolveStatus = 'invalid' | 'contradictory' | 'incomplete' | 'solved';

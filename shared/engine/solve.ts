@@ -26,13 +26,8 @@ import {
   type ToleranceDefaults,
 } from './model';
 import { factorRows, maxAbs, nearlyEqual, type SparseRow } from './numeric';
-import {
-  parseQuantity,
-  quantityIn,
-  QuantityError,
-  type ModelUnit,
-  type Quantity,
-} from './quantity';
+import type { ModelUnit } from './length';
+import { parseQuantity, quantityIn, QuantityError, type Quantity } from './quantity';
 import { reconcileRedundant, type RedundantRelation } from './reconcile';
 import type { EngineError, SolveResult, SolveStatus, ValueResult, ValueTrace } from './result';
 import { analyseStructure, type StructureResult } from './structure';

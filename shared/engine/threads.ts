@@ -14,9 +14,8 @@
  * Percent thread, the quantity a tap drill is chosen by, is measured per series against the
  * depth its own charts use, so the rule reproduces those charts (formulas in `PERCENT_RULES`).
  */
+import { MM_PER_IN } from './length';
 import { drillByLabel, nearestDrill, type DrillSetName, type StockDrill } from './drills';
-
-const MM_PER_IN = 25.4;
 
 export type ThreadSeries = 'BA' | 'ISO metric coarse' | 'ISO metric fine' | 'UNC' | 'UNF' | 'ME';
 

@@ -3,15 +3,8 @@
 // to fc.assert to replay it.
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import {
-  QuantityError,
-  formatFraction,
-  formatLength,
-  nearestFraction,
-  parseQuantity,
-  quantityIn,
-  type Quantity,
-} from '@shared/engine/quantity';
+import { formatFraction, formatLength, nearestFraction } from '@shared/engine/length';
+import { QuantityError, parseQuantity, quantityIn, type Quantity } from '@shared/engine/quantity';
 
 const runs = { numRuns: 10_000 };
 const HALF_PAIR = /[\ud800-\udbff](?![\udc00-\udfff])|(?<![\ud800-\udbff])[\udc00-\udfff]/;

@@ -1,15 +1,12 @@
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import {
-  QuantityError,
   convertLength,
   formatFraction,
   formatLength,
   nearestFraction,
-  parseQuantity,
-  quantityIn,
-  suggestNominal,
-} from '@shared/engine/quantity';
+} from '@shared/engine/length';
+import { QuantityError, parseQuantity, quantityIn, suggestNominal } from '@shared/engine/quantity';
 
 function errorAt(text: string): number | undefined {
   try {
