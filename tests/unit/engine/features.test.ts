@@ -5,7 +5,7 @@ import {
   type FairsheetModelInput,
   type FeatureResult,
 } from '@shared/engine';
-import { kestrelModel } from '../../../server/demo/kestrel-model';
+import { kestrelModel } from '../../fixtures/kestrel-model';
 
 type Part = NonNullable<FairsheetModelInput['parts']>[number];
 type Feature = NonNullable<FairsheetModelInput['features']>[number];

@@ -13,7 +13,7 @@ import {
   type FairsheetModelInput,
 } from '@shared/engine';
 import { solveBody } from '@shared/api';
-import { kestrelModel } from '../../../server/demo/kestrel-model';
+import { kestrelModel } from '../../fixtures/kestrel-model';
 
 function refusal(f: () => unknown): ExpressionError {
   try {
