@@ -11,6 +11,7 @@ export {
   otherUnit,
   convertLength,
   roundTo,
+  roundUpTo,
   lengthNumber,
   unitMark,
   lengthText,
@@ -22,6 +23,7 @@ export {
   fractionText,
 } from './length';
 export type { ModelUnit, NearestFraction } from './length';
+export { sizeText, drillMmText, drillText, tapDrillText, clearanceText } from './size-text';
 export { parseQuantity, quantityIn, suggestNominal, QuantityError } from './quantity';
 export type {
   Quantity,

@@ -51,6 +51,20 @@ export function roundTo(value: number, places: number): number {
 }
 
 /**
+ * Rounds up (toward +∞) to `places` decimals: a tolerance written from a measurement is never
+ * better than measured. A value within 10⁻⁹ of a step stays on it (0.0050 does not become 0.0051
+ * for a binary hair above).
+ *
+ * @example roundUpTo(0.00501, 4) // 0.0051
+ */
+export function roundUpTo(value: number, places: number): number {
+  if (!Number.isFinite(value)) return value;
+  const f = 10 ** places;
+  const r = Math.ceil(value * f - 1e-9) / f;
+  return r === 0 ? 0 : r;
+}
+
+/**
  * A length's number as written in its unit (4 places in inches, 3 in millimetres, or as given),
  * without the unit; never "-0.0000".
  *

@@ -9,10 +9,13 @@ import {
   QuantityError,
   checkCalibration,
   convertLength,
+  formatLength,
+  LENGTH_PLACES,
   measureBetweenPins,
   parseModelScale,
   parseQuantity,
   prototypeToModel,
+  roundUpTo,
   type CalibrationCheck,
   type ModelUnit,
   type SheetPoint,
@@ -128,18 +131,10 @@ export function parseScale(
   }
 }
 
-/** mm → the model unit, as a number. */
-export const mmIn = (mm: number, unit: ModelUnit) => convertLength(mm, 'mm', unit);
-
-/** How a measured length is written into the model: 3 places in mm, 4 in inches. */
-export const placesFor = (unit: ModelUnit) => (unit === 'in' ? 4 : 3);
-
 /** A length in the model unit with its unit, rounded for the model (value) or up (tolerance). */
 export function writeLength(mm: number, unit: ModelUnit, roundUp = false): string {
-  const places = placesFor(unit);
-  const f = 10 ** places;
-  const v = mmIn(mm, unit);
+  if (!roundUp) return formatLength(mm, 'mm', unit);
   // A tolerance rounds up, so writing it never makes it better than measured.
-  const r = roundUp ? Math.ceil(v * f - 1e-9) / f : Math.round(v * f) / f;
-  return `${r.toFixed(places)} ${unit}`;
+  const up = roundUpTo(convertLength(mm, 'mm', unit), LENGTH_PLACES[unit]);
+  return formatLength(up, unit, unit);
 }

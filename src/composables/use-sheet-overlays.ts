@@ -1,6 +1,6 @@
 import { computed } from 'vue';
-import type { DimensionKind, SheetPoint } from '@shared/engine';
-import { formatTolerance, type ModelUnit } from '@/composables/use-length-format';
+import { formatLength, type DimensionKind, type SheetPoint } from '@shared/engine';
+import { formatTolerance } from '@/lib/length-format';
 import { useModelStore } from '@/stores/model';
 import { useSheetsStore } from '@/stores/sheets';
 
@@ -18,8 +18,6 @@ export interface SheetLeader {
   /** Named as a suspect of a contradiction: drawn so nobody can miss it. */
   suspect: boolean;
 }
-
-const places = (unit: ModelUnit) => (unit === 'in' ? 4 : 3);
 
 /**
  * The leaders of the open sheet: every model dimension linked to this sheet that has a
@@ -49,7 +47,7 @@ export function useSheetOverlays() {
       const v = result?.values[d.name];
       const value =
         v?.value !== null && v?.value !== undefined
-          ? `${v.value.toFixed(places(unit))} ${unit}`
+          ? formatLength(v.value, unit, unit)
           : 'value' in d
             ? String(d.value)
             : '—';

@@ -542,7 +542,7 @@ describe('a new builder’s journey, from an empty account to the shop sheet, in
       await featureForm.waitFor({ state: 'hidden' });
       const feature = page.locator('[data-feature="f1"]');
       expect((await feature.innerText()).replace(/\s+/g, ' ')).toMatch(
-        /Holding-down bolt, right.*7\.7500, 0\.7500 ±0\.0150.*2BA clearance \(free\)/,
+        /Holding-down bolt, right.*7\.7500, 0\.7500 ±0\.0150.*2BA clearance, free/,
       );
       await saveModel(page);
       await shot(page, '09a-part-and-feature');
