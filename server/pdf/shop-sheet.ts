@@ -4,6 +4,7 @@
 import { createRequire } from 'node:module';
 import PDFDocument from 'pdfkit';
 import type { PaperSize, ShopSheet, ShopSheetGroup, ShopSheetRow } from '@shared/api';
+import { lengthNumber, MM_PER_IN } from '@shared/engine';
 
 type Doc = InstanceType<typeof PDFDocument>;
 
@@ -23,7 +24,7 @@ const DANGER = '#b3261e';
 
 const MARGIN = 30;
 /** 1 mm and 1 in in PDF points (1 pt = 1/72 in exactly). */
-const PT_PER_MM = 72 / 25.4;
+const PT_PER_MM = 72 / MM_PER_IN;
 const PT_PER_IN = 72;
 const FOOTER_H = 62;
 
@@ -340,8 +341,8 @@ class SheetWriter {
     if (!g.drills.length) return;
     const cols: Array<[string, number, (d: ShopSheetGroup['drills'][number]) => string]> = [
       ['Drill', 70, (d) => d.drill],
-      ['mm', 46, (d) => d.mm.toFixed(3)],
-      ['in', 46, (d) => d.inch.toFixed(4)],
+      ['mm', 46, (d) => lengthNumber(d.mm, 'mm')],
+      ['in', 46, (d) => lengthNumber(d.inch, 'in')],
       ['Material', 190, (d) => d.material],
       ['Vc m/min', 50, (d) => String(d.vcMPerMin)],
       ['Spindle rpm', 60, (d) => String(d.rpm)],

@@ -1,10 +1,20 @@
 import {
+  bothUnits,
+  clearanceText,
+  convertLength,
+  drillText,
+  lengthNumber,
+  otherUnit,
+  sizeText,
+  tapDrillText,
+  toleranceText,
   type FairsheetModel,
   type FeatureLength,
   type FeatureResult,
   type FeatureRow,
   type FeaturesResult,
   type GivenKind,
+  type ModelUnit,
 } from '@shared/engine';
 import {
   SHOP_SHEET_CSV_COLUMNS,
@@ -55,33 +65,26 @@ export const PRESSURE_CAUTION =
   'Pressure-bearing part: its design and its tests must follow the applicable boiler code and the inspection of the local club or authority. Fairsheet makes no pressure-vessel calculation; written or approved figures only.';
 
 const GLUE = ', ';
-const other = (u: 'in' | 'mm'): 'in' | 'mm' => (u === 'in' ? 'mm' : 'in');
-const toUnit = (v: number, from: 'in' | 'mm', to: 'in' | 'mm') =>
-  from === to ? v : from === 'in' ? v * 25.4 : v / 25.4;
 
-/** Inches to 4 places, millimetres to 3 (0.0001 in ≈ 0.003 mm); `−0` never shows. */
-export function formatIn(units: 'in' | 'mm', v: number): string {
-  const d = units === 'in' ? 4 : 3;
-  // Half rounds up, also for a binary near-miss (7.3125 in = 185.7375 mm → 185.738).
-  const scaled = Math.round(Math.abs(v) * 10 ** d * (1 + 1e-12)) / 10 ** d;
-  return scaled === 0 ? (0).toFixed(d) : (Math.sign(v) * scaled).toFixed(d);
-}
-
-function cell(l: FeatureLength, units: 'in' | 'mm') {
+/**
+ * A position's cell: the length in the model's unit and in the other, each written by the
+ * engine (`lengthNumber`), as the workspace writes them; the unit stands in the column's head.
+ */
+export function lengthCell(l: FeatureLength, units: ModelUnit): ShopSheetRow['x'] {
   if (l.value === null) return { value: null, other: null, text: '—', otherText: '—' };
-  const o = toUnit(l.value, units, other(units));
+  const o = convertLength(l.value, units, otherUnit(units));
   return {
     value: l.value,
     other: o,
-    text: formatIn(units, l.value),
-    otherText: formatIn(other(units), o),
+    text: lengthNumber(l.value, units),
+    otherText: lengthNumber(o, otherUnit(units)),
   };
 }
 
-function both(v: FeatureLength, units: 'in' | 'mm'): string {
-  if (v.value === null) return '—';
-  const mark = (u: 'in' | 'mm') => (u === 'in' ? '"' : ' mm');
-  return `${formatIn(units, v.value)}${mark(units)} / ${formatIn(other(units), toUnit(v.value, units, other(units)))}${mark(other(units))}`;
+/** A hole's depth in both units, the model's first; or `through`. */
+function depthText(d: FeatureResult['depth'], units: ModelUnit): string {
+  if (d === 'through') return 'through';
+  return d.value === null ? '—' : bothUnits(d.value, units);
 }
 
 function provenanceText(x: FeatureLength, y: FeatureLength): string {
@@ -94,49 +97,6 @@ function provenanceText(x: FeatureLength, y: FeatureLength): string {
   if (direct.some((p) => p === 'derived'))
     return `derived (${words.join(GLUE) || 'no given value'})`;
   return words.join(GLUE) || 'on datum';
-}
-
-function sizeText(f: FeatureResult, units: 'in' | 'mm'): string {
-  const len = (l?: FeatureLength) => (l?.value == null ? '?' : formatIn(units, l.value));
-  switch (f.kind) {
-    case 'tapped':
-      return f.thread ? `${f.thread.designation} tapped` : 'tapped (no thread)';
-    case 'hole':
-      if (f.thread && f.clearance) return `${f.thread.designation} clearance, ${f.clearance.fit}`;
-      return f.drill ? `Ø ${f.drill.label}` : 'hole';
-    case 'slot':
-    case 'pocket':
-      return `${f.kind} ${len(f.width)} × ${len(f.length)}`;
-    default:
-      return 'edge';
-  }
-}
-
-const mm2 = (mm: number) => `${mm.toFixed(2)} mm`;
-
-function tapText(f: FeatureResult): string {
-  if (!f.tap || !f.drill) return '';
-  const d = f.drill;
-  const pct = d.percentThread === undefined ? '' : ` · ${Math.round(d.percentThread)} % thread`;
-  const chart =
-    f.tap.published && f.tap.published.label !== d.label ? ` · chart ${f.tap.published.label}` : '';
-  return `${d.label}${d.label.endsWith('mm') ? '' : ` (${mm2(d.mm)})`}${pct}${chart}`;
-}
-
-function clearanceText(f: FeatureResult): string {
-  const c = f.clearance;
-  if (!c || !f.drill) return '';
-  const wanted = c.fit === 'close' ? c.close : c.free;
-  const chart = wanted.label === c.stock.label ? '' : `; chart ${wanted.label}`;
-  return `${f.drill.label} (${c.fit}${chart})`;
-}
-
-function drillText(f: FeatureResult): string {
-  const d = f.drill;
-  if (!d) return '';
-  return d.label.endsWith('mm')
-    ? `${d.label} · ${d.inch.toFixed(4)}"`
-    : `${d.label} · ${mm2(d.mm)} · ${d.inch.toFixed(4)}"`;
 }
 
 function checkOfRow(
@@ -208,15 +168,15 @@ export function buildShopSheet(input: ShopSheetInput, reviews: ShopSheetReviews 
         part: f.part,
         label: row.label,
         kind: f.kind,
-        x: cell(row.x, units),
-        y: cell(row.y, units),
+        x: lengthCell(row.x, units),
+        y: lengthCell(row.y, units),
         size: sizeText(f, units),
-        tapDrill: tapText(f),
+        tapDrill: tapDrillText(f),
         clearance: clearanceText(f),
         drill: drillText(f),
         rpm: f.speed ? Math.round(f.speed.rpm) : null,
-        depth: f.depth === 'through' ? 'through' : both(f.depth, units),
-        tolerance: tol === null ? '—' : `±${formatIn(units, tol)}`,
+        depth: depthText(f.depth, units),
+        tolerance: tol === null ? '—' : toleranceText(tol, units),
         toleranceValue: tol,
         provenance: provenanceText(row.x, row.y),
         check: checkOfRow(f, row, reviews.checkOf),
@@ -301,7 +261,7 @@ export function buildShopSheet(input: ShopSheetInput, reviews: ShopSheetReviews 
     date: input.date,
     derivedBy: input.derivedBy,
     units,
-    otherUnits: other(units),
+    otherUnits: otherUnit(units),
     status: evaluated.status,
     order: evaluated.order,
     corrections: reviews.corrections ?? [],
