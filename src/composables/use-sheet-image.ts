@@ -1,7 +1,7 @@
 import { onBeforeUnmount, ref, shallowRef, watch, type Ref } from 'vue';
 import { pdfFrameDpi } from '@shared/api';
 import type { TiffAnswer } from '@/workers/tiff-decode';
-import { visibleSheetRect, type ScreenSize, type SheetView } from './use-sheet-view';
+import { visibleSheetRect, type ScreenSize, type SheetView } from '@/lib/sheet-view';
 
 /** What to draw: a source and the sheet-pixel rectangle it covers. */
 export interface SheetRaster {

@@ -1,9 +1,5 @@
 import { DIMENSION_NAME, type FairsheetModelInput } from '@shared/engine';
-import {
-  measureOnSheet,
-  writeLength,
-  type SheetMeasure,
-} from '@/composables/use-sheet-calibration';
+import { measureOnSheet, writeLength, type SheetMeasure } from '@/lib/sheet-calibration';
 import { useModelStore } from '@/stores/model';
 import { useSheetsStore } from '@/stores/sheets';
 

@@ -5,14 +5,8 @@ import { rotateSheetPoint, straightenRotation, type SheetPoint } from '@shared/e
 import { ApiError } from '@/api/client';
 import { describeError } from '@/api/messages';
 import { sheetsApi } from '@/api/sheets';
-import { tryBuildCalibration } from '@/composables/use-sheet-calibration';
-import {
-  fitView,
-  keepCentre,
-  zoomAround,
-  type ScreenSize,
-  type SheetView,
-} from '@/composables/use-sheet-view';
+import { tryBuildCalibration } from '@/lib/sheet-calibration';
+import { fitView, keepCentre, zoomAround, type ScreenSize, type SheetView } from '@/lib/sheet-view';
 
 /** What a canvas edit can change: the part of a sheet that undo steps through and PATCH saves. */
 export interface SheetEdits {
