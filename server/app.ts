@@ -14,6 +14,7 @@ import { engineRoutes } from './routes/engine';
 import { healthRoutes } from './routes/health';
 import { modelRoutes } from './routes/models';
 import { projectRoutes } from './routes/projects';
+import { measurementRoutes } from './routes/measurements';
 import { sheetRoutes } from './routes/sheets';
 import { bundleRoutes } from './routes/bundle';
 import { invitationLinkRoutes, teamRoutes, type InvitationLimits } from './routes/team';
@@ -28,6 +29,7 @@ import { createInvitationService } from './services/invitations';
 import { createMemberService } from './services/members';
 import { createModelService } from './services/models';
 import { createProjectService } from './services/projects';
+import { createMeasurementService } from './services/measurements';
 import { createSheetService } from './services/sheets';
 import { createShopSheetService } from './services/shop-sheet';
 import { defaultSolvePool, type SolvePool } from './solve/pool';
@@ -212,6 +214,7 @@ export function createApp(deps: AppDeps): Express {
       }),
     ),
     sheetRoutes(db, sheets, { maxBytes: uploadMaxBytes, tempDir: deps.uploadTempDir }),
+    measurementRoutes(db, createMeasurementService(db, models)),
     teamRoutes(db, team, deps.invitationLimits),
     // A bundle carries every file of a project: up to 20 uploads' worth.
     bundleRoutes(

@@ -3,7 +3,7 @@ import type { Db } from './client';
 import { modelRevisions, projectModels, projects, users } from './schema';
 import { recordedName } from './team';
 
-type Tx = Parameters<Parameters<Db['transaction']>[0]>[0];
+export type Tx = Parameters<Parameters<Db['transaction']>[0]>[0];
 export type DbOrTx = Db | Tx;
 
 export async function findModel(db: DbOrTx, projectId: string) {

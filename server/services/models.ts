@@ -52,6 +52,13 @@ interface ModelAnswer {
   br: Buffer;
 }
 
+/** A save's answer: the revision written (or kept, when nothing changed) and its summary. */
+export interface SaveAnswer {
+  revision: number;
+  result: ReturnType<typeof slimResult>;
+  summary: string;
+}
+
 export interface StoredModel {
   revision: number;
   model: FairsheetModel;
@@ -152,38 +159,59 @@ export function createModelService(
     baseRevision: number,
     model: FairsheetModel,
     note?: string,
-  ): Promise<{ revision: number; result: ReturnType<typeof slimResult>; summary: string }> {
+  ): Promise<SaveAnswer> {
     // Solved before the row lock is taken: a solve waiting for a thread holds no connection.
     const result = await solver.solve(model);
-    return db.transaction(async (tx) => {
-      const locked = await repo.lockModel(tx, projectId);
-      if (!locked) throw notFound('The model');
-      if (locked.revision !== baseRevision) {
-        throw conflict(
-          `Someone else saved revision ${locked.revision} after the revision ${baseRevision} you edited.`,
-          { currentRevision: locked.revision, model: locked.model },
-        );
-      }
-      const previous = locked.model as FairsheetModel;
-      const diff = diffModels(previous, model);
-      if (isEmptyDiff(diff) && !note)
-        return { revision: locked.revision, result: slimResult(result), summary: 'no change' };
-      const revision = locked.revision + 1;
-      const summary = note ? `${note} (${summariseDiff(diff)})` : summariseDiff(diff);
-      await repo.writeModel(tx, projectId, { revision, model, result, userId });
-      await repo.insertRevision(tx, { projectId, revision, userId, summary, diff, model });
-      await activity?.record(
-        {
-          projectId,
-          userId,
-          kind: 'save',
-          summary: `saved revision ${revision}: ${summary}`,
-          details: { revision, diff },
-        },
-        tx,
+    return db.transaction((tx) =>
+      writeRevision(tx, { projectId, userId, baseRevision, model, result, note }),
+    );
+  }
+
+  /**
+   * The inside of a save, for a transaction that writes more than the model (a measurement
+   * writes its sheet too): locks the model row, refuses with 409 when `baseRevision` is stale,
+   * and writes `model` (solved as `result`) as the next revision with its history and activity
+   * rows.
+   */
+  async function writeRevision(
+    tx: repo.Tx,
+    args: {
+      projectId: string;
+      userId: string;
+      baseRevision: number;
+      model: FairsheetModel;
+      result: SolveResult;
+      note?: string;
+    },
+  ): Promise<SaveAnswer> {
+    const { projectId, userId, baseRevision, model, result, note } = args;
+    const locked = await repo.lockModel(tx, projectId);
+    if (!locked) throw notFound('The model');
+    if (locked.revision !== baseRevision) {
+      throw conflict(
+        `Someone else saved revision ${locked.revision} after the revision ${baseRevision} you edited.`,
+        { currentRevision: locked.revision, model: locked.model },
       );
-      return { revision, result: slimResult(result), summary };
-    });
+    }
+    const previous = locked.model as FairsheetModel;
+    const diff = diffModels(previous, model);
+    if (isEmptyDiff(diff) && !note)
+      return { revision: locked.revision, result: slimResult(result), summary: 'no change' };
+    const revision = locked.revision + 1;
+    const summary = note ? `${note} (${summariseDiff(diff)})` : summariseDiff(diff);
+    await repo.writeModel(tx, projectId, { revision, model, result, userId });
+    await repo.insertRevision(tx, { projectId, revision, userId, summary, diff, model });
+    await activity?.record(
+      {
+        projectId,
+        userId,
+        kind: 'save',
+        summary: `saved revision ${revision}: ${summary}`,
+        details: { revision, diff },
+      },
+      tx,
+    );
+    return { revision, result: slimResult(result), summary };
   }
 
   async function history(projectId: string) {
@@ -229,6 +257,7 @@ export function createModelService(
     current,
     currentJson,
     save,
+    writeRevision,
     history,
     revision,
     compare,

@@ -8,3 +8,4 @@ export * from './team';
 export * from './shop-sheet';
 export * from './bundle';
 export * from './sheet-calibration';
+export * from './sheet-measurement';

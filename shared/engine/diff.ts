@@ -50,7 +50,7 @@ export interface ValueMove {
  *
  * @example sameJson({ type: 'circle', pcd: 1 }, { pcd: 1, type: 'circle' }) // true
  */
-function sameJson(a: unknown, b: unknown): boolean {
+export function sameJson(a: unknown, b: unknown): boolean {
   if (a === b) return true;
   if (typeof a !== 'object' || typeof b !== 'object' || a === null || b === null) return false;
   if (Array.isArray(a) || Array.isArray(b)) {
@@ -71,7 +71,13 @@ function fieldChanges(before: object, after: object): FieldChange[] {
   return keys.filter((k) => !sameJson(a[k], b[k])).map((k) => ({ field: k, from: a[k], to: b[k] }));
 }
 
-function diffBy<T extends object>(
+/**
+ * What changed in a list of items matched by `key`: added, removed, or changed field by field.
+ * The model's dimensions and relations, and a sheet's pins and measurements, are diffed so.
+ *
+ * @example diffItems([{ id: 'p1', x: 1 }], [{ id: 'p1', x: 2 }], (p) => p.id)[0].fields // [{ field: 'x', from: 1, to: 2 }]
+ */
+export function diffItems<T extends object>(
   before: T[],
   after: T[],
   key: (item: T) => string,
@@ -105,10 +111,10 @@ export function diffModels(before: FairsheetModelInput, after: FairsheetModelInp
     ...(sameJson(before.defaults, after.defaults)
       ? {}
       : { defaults: { from: before.defaults, to: after.defaults } }),
-    dimensions: diffBy(before.dimensions, after.dimensions, (d) => d.name),
-    relations: diffBy(before.relations ?? [], after.relations ?? [], (r) => r.id),
-    parts: diffBy(before.parts ?? [], after.parts ?? [], (p) => p.id),
-    features: diffBy(before.features ?? [], after.features ?? [], (f) => f.id),
+    dimensions: diffItems(before.dimensions, after.dimensions, (d) => d.name),
+    relations: diffItems(before.relations ?? [], after.relations ?? [], (r) => r.id),
+    parts: diffItems(before.parts ?? [], after.parts ?? [], (p) => p.id),
+    features: diffItems(before.features ?? [], after.features ?? [], (f) => f.id),
   };
 }
 
@@ -205,7 +211,13 @@ export function movedValues(
   return moves;
 }
 
-function applyBy<T extends object>(
+/**
+ * Replays item changes onto a list (see `applyDiff`): added items are put in (or replace one of
+ * the same key), removed ones taken out, changed ones set field by field.
+ *
+ * @example applyItems(pins, diffItems(base, mine, (p) => p.id), (p) => p.id)
+ */
+export function applyItems<T extends object>(
   items: T[],
   changes: ItemChange<T>[],
   key: (item: T) => string,
@@ -243,9 +255,9 @@ export function applyDiff(model: FairsheetModelInput, diff: ModelDiff): Fairshee
     ...model,
     ...(diff.units ? { units: diff.units.to as FairsheetModelInput['units'] } : {}),
     ...(diff.defaults ? { defaults: diff.defaults.to } : {}),
-    dimensions: applyBy(model.dimensions, diff.dimensions, (d) => d.name),
-    relations: applyBy(model.relations ?? [], diff.relations, (r) => r.id),
-    parts: applyBy(model.parts ?? [], diff.parts ?? [], (p) => p.id),
-    features: applyBy(model.features ?? [], diff.features ?? [], (f) => f.id),
+    dimensions: applyItems(model.dimensions, diff.dimensions, (d) => d.name),
+    relations: applyItems(model.relations ?? [], diff.relations, (r) => r.id),
+    parts: applyItems(model.parts ?? [], diff.parts ?? [], (p) => p.id),
+    features: applyItems(model.features ?? [], diff.features ?? [], (f) => f.id),
   };
 }

@@ -109,7 +109,17 @@ export type {
   MonteCarloValue,
 } from './result';
 
-export { diffModels, isEmptyDiff, summariseDiff, movedValues, applyDiff, fieldWords } from './diff';
+export {
+  diffModels,
+  isEmptyDiff,
+  summariseDiff,
+  movedValues,
+  applyDiff,
+  fieldWords,
+  diffItems,
+  applyItems,
+  sameJson,
+} from './diff';
 export type { ModelDiff, ItemChange, FieldChange, ValueMove } from './diff';
 
 export { upstreamText } from './fingerprint';
