@@ -1,5 +1,5 @@
 import { createHash } from 'node:crypto';
-import { upstreamText, type SolveResult } from '@shared/engine';
+import { lengthNumber, upstreamText, type SolveResult } from '@shared/engine';
 import type { Check } from '@shared/api';
 import type { Db } from '../db/client';
 import * as repo from '../db/team';
@@ -69,7 +69,7 @@ export function createCheckService(db: Db, models: ModelService, activity: Activ
         projectId,
         userId: user.id,
         kind: 'check',
-        summary: `checked ${dimension} = ${v.value.toFixed(4)}`,
+        summary: `checked ${dimension} = ${lengthNumber(v.value, stored.model.units)}`,
         details: { dimension, revision: stored.revision },
       });
       return (await list(projectId)).checks.find((c) => c.dimension === dimension)!;
