@@ -3,6 +3,9 @@ import { defineConfigWithVueTs, vueTsConfigs } from '@vue/eslint-config-typescri
 import skipFormatting from '@vue/eslint-config-prettier/skip-formatting';
 import globals from 'globals';
 
+const INCH_MESSAGE =
+  'Convert lengths with convertLength or MM_PER_IN from @shared/engine (shared/engine/length.ts), not the literal 25.4.';
+
 export default defineConfigWithVueTs(
   {
     ignores: [
@@ -32,6 +35,20 @@ export default defineConfigWithVueTs(
       'no-restricted-imports': [
         'error',
         { patterns: ['@/*', '**/src/*', '**/server/*', 'node:*', 'express', 'pg', 'drizzle-orm*'] },
+      ],
+    },
+  },
+  {
+    // Millimetres per inch (25.4 exactly) are written once, in shared/engine/length.ts
+    // (MM_PER_IN, convertLength); a second copy of the number is a second place that converts
+    // and rounds a length, and the same length would read two ways.
+    files: ['**/*.ts', '**/*.vue'],
+    ignores: ['shared/engine/length.ts', 'tests/**'],
+    rules: {
+      'no-restricted-syntax': ['error', { selector: 'Literal[value=25.4]', message: INCH_MESSAGE }],
+      'vue/no-restricted-syntax': [
+        'error',
+        { selector: 'Literal[value=25.4]', message: INCH_MESSAGE },
       ],
     },
   },

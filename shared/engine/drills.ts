@@ -1,7 +1,7 @@
 /**
  * Stock drill sets and the nearest stock drill to a wanted size.
  *
- * Every size is held in millimetres (1 in = 25.4 mm exactly) and, for the inch sets, in the
+ * Every size is held in millimetres (converted by `length.ts`) and, for the inch sets, in the
  * inch value the standard defines, so a label such as `#7` always means exactly 0.2010 in.
  *
  * Sources (tags as in the team's check-values reference):

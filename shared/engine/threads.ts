@@ -26,7 +26,7 @@ export interface ThreadSpec {
   readonly series: ThreadSeries;
   readonly majorDiameterMm: number;
   readonly pitchMm: number;
-  /** Threads per inch: the defining figure for Unified and ME; 25.4/p for BA. Absent for ISO. */
+  /** Threads per inch: the defining figure for Unified and ME; an inch over the pitch for BA. Absent for ISO. */
   readonly tpi?: number;
   readonly angleDeg: number;
   /** Basic minor diameter of the internal thread (the nut), which a tap drill must not undercut. */
@@ -454,7 +454,7 @@ export const PERCENT_RULES: Readonly<Record<ThreadSeries, string>> = {
 /**
  * The % thread a drill of `drillMm` leaves for a tap of `thread`, by the series' own rule.
  *
- * @example percentThreadFor(threadByDesignation('1/4-20 UNC'), 0.201 * 25.4) // ≈ 75.4
+ * @example percentThreadFor(threadByDesignation('1/4-20 UNC'), 0.201 * MM_PER_IN) // ≈ 75.4
  */
 export function percentThreadFor(thread: ThreadSpec, drillMm: number): number {
   return ((thread.majorDiameterMm - drillMm) / fullDepthMm(thread)) * 100;
