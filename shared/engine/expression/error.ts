@@ -1,0 +1,15 @@
+/** The error of every expression stage: a code, a message and the offending character. */
+export type ExpressionErrorCode =
+  'syntax' | 'forbidden' | 'unknown-name' | 'unit-mismatch' | 'division-by-zero' | 'over-limit';
+
+/** A refused or unreadable relation; `at` is the character offset of the offending token. */
+export class ExpressionError extends Error {
+  constructor(
+    readonly code: ExpressionErrorCode,
+    message: string,
+    readonly at?: number,
+  ) {
+    super(message);
+    this.name = 'ExpressionError';
+  }
+}
