@@ -52,5 +52,21 @@ export default defineConfigWithVueTs(
       ],
     },
   },
+  {
+    // Client layers, one way down: views and components → composables → stores → src/lib. A
+    // store importing a composable would close a loop (composables use the stores), and src/lib
+    // is plain TypeScript, without Vue's reactivity.
+    files: ['src/stores/**/*.ts'],
+    rules: { 'no-restricted-imports': ['error', { patterns: ['@/composables/*'] }] },
+  },
+  {
+    files: ['src/lib/**/*.ts'],
+    rules: {
+      'no-restricted-imports': [
+        'error',
+        { paths: ['vue', 'pinia'], patterns: ['@/composables/*', '@/stores/*', '@/views/*'] },
+      ],
+    },
+  },
   skipFormatting,
 );
