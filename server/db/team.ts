@@ -1,4 +1,5 @@
 import { and, desc, eq, isNull, sql, type AnyColumn } from 'drizzle-orm';
+import type { ProjectRole } from '@shared/api';
 import type { Db } from './client';
 import type { DbOrTx } from './models';
 import { memberships, projects, sheets, users } from './schema';
@@ -15,7 +16,7 @@ export async function insertInvitation(
   values: {
     projectId: string;
     email: string;
-    role: 'owner' | 'editor' | 'checker' | 'viewer';
+    role: ProjectRole;
     tokenHash: string;
     invitedBy: string;
     expiresAt: Date;
@@ -135,7 +136,7 @@ export async function setMemberRole(
   db: DbOrTx,
   projectId: string,
   userId: string,
-  role: 'owner' | 'editor' | 'checker' | 'viewer',
+  role: ProjectRole,
 ) {
   await db
     .update(memberships)

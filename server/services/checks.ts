@@ -1,11 +1,11 @@
 import { createHash } from 'node:crypto';
 import { lengthNumber, upstreamText, type SolveResult } from '@shared/engine';
-import type { Check } from '@shared/api';
+import type { Check, CheckList } from '@shared/api';
 import type { Db } from '../db/client';
 import * as repo from '../db/team';
 import { badRequest, notFound } from '../http/errors';
 import type { ActivityService } from './activity';
-import type { ModelService, StoredModel } from './models';
+import type { CurrentModel, ModelService } from './models';
 
 const fingerprintOf = (text: string) => createHash('sha256').update(text).digest('hex');
 
@@ -16,7 +16,7 @@ const fingerprintOf = (text: string) => createHash('sha256').update(text).digest
  */
 export function createCheckService(db: Db, models: ModelService, activity: ActivityService) {
   /** `known`: the stored model the caller has read already (the shop sheet shows its positions). */
-  async function list(projectId: string, known?: StoredModel) {
+  async function list(projectId: string, known?: CurrentModel): Promise<CheckList> {
     const [rows, stored] = await Promise.all([
       repo.listChecks(db, projectId),
       known ?? models.current(projectId),

@@ -1,5 +1,5 @@
 import { createHash, randomBytes } from 'node:crypto';
-import type { Invitation, InvitationPreview, ProjectRole } from '@shared/api';
+import type { Invitation, InvitationAccepted, InvitationPreview, ProjectRole } from '@shared/api';
 import type { Db } from '../db/client';
 import { listMembers, upsertMembership } from '../db/projects';
 import * as repo from '../db/team';
@@ -162,7 +162,7 @@ export function createInvitationService(deps: {
      * one invited (403 otherwise, and the invitation stays for its owner); a used, revoked or
      * expired link answers 410.
      */
-    async accept(token: string, user: { id: string; name: string }) {
+    async accept(token: string, user: { id: string; name: string }): Promise<InvitationAccepted> {
       const row = await repo.findInvitationByToken(db, hashToken(token));
       if (!row) throw notFound('That invitation');
       const state = stateOf(row);

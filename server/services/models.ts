@@ -4,12 +4,21 @@ import {
   movedValues,
   summariseDiff,
   type FairsheetModel,
+  type ModelDiff,
   type SolveResult,
-  type ValueResult,
 } from '@shared/engine';
 import { promisify } from 'node:util';
 import { brotliCompress, constants as zlib, gzip } from 'node:zlib';
-import { emptyModel } from '@shared/api';
+import {
+  emptyModel,
+  type Comparison,
+  type HistoryEntry,
+  type RevisionDetail,
+  type SaveAnswer,
+  type SlimSolveResult,
+  type SolveVerdict,
+  type StoredModel,
+} from '@shared/api';
 import type { Db } from '../db/client';
 import * as repo from '../db/models';
 import { conflict, notFound } from '../http/errors';
@@ -20,8 +29,8 @@ import type { ActivityService } from './activity';
  * A save's answer: each value with its stack-up, without the traces and contributors (which grow
  * with chain length and which the browser works out itself).
  */
-function slimResult(result: SolveResult) {
-  const values: Record<string, Omit<ValueResult, 'from' | 'contributors' | 'trace'>> = {};
+function slimResult(result: SolveResult): SlimSolveResult {
+  const values: SlimSolveResult['values'] = {};
   for (const [name, v] of Object.entries(result.values)) {
     const { from: _from, contributors: _contributors, trace: _trace, ...slim } = v;
     values[name] = slim;
@@ -30,7 +39,7 @@ function slimResult(result: SolveResult) {
 }
 
 /** The server's verdict on a stored model (status, contradictions, checks, needs), no values. */
-function verdictOf(result: SolveResult) {
+function verdictOf(result: SolveResult): SolveVerdict {
   const { values: _values, ...verdict } = result;
   return verdict;
 }
@@ -52,20 +61,11 @@ interface ModelAnswer {
   br: Buffer;
 }
 
-/** A save's answer: the revision written (or kept, when nothing changed) and its summary. */
-export interface SaveAnswer {
-  revision: number;
-  result: ReturnType<typeof slimResult>;
-  summary: string;
-}
-
-export interface StoredModel {
-  revision: number;
-  model: FairsheetModel;
-  result: SolveResult;
-  updatedAt: string;
-  updatedBy: string | null;
-}
+/**
+ * The current revision as the server reads it: GET /model's answer (`StoredModel` of
+ * shared/api) with the whole stored result in place of its verdict.
+ */
+export type CurrentModel = Omit<StoredModel, 'result'> & { result: SolveResult };
 
 /**
  * `solver`: where models are solved (default: the process's pool), never on this thread; its
@@ -95,7 +95,7 @@ export function createModelService(
     });
   }
 
-  async function current(projectId: string): Promise<StoredModel> {
+  async function current(projectId: string): Promise<CurrentModel> {
     const row = await repo.findModel(db, projectId);
     if (!row) throw notFound('The model');
     return {
@@ -137,7 +137,8 @@ export function createModelService(
     const stored = await current(projectId);
     // The browser solves the model itself (values, traces, stack-up charts); the answer carries
     // the server's verdict only, which keeps a 2,000-dimension model small.
-    const body = JSON.stringify({ ...stored, result: stored.result && verdictOf(stored.result) });
+    const answer: StoredModel = { ...stored, result: stored.result && verdictOf(stored.result) };
+    const body = JSON.stringify(answer);
     return {
       etag: `"m${stored.revision}-${stored.updatedAt}"`,
       body,
@@ -214,7 +215,7 @@ export function createModelService(
     return { revision, result: slimResult(result), summary };
   }
 
-  async function history(projectId: string) {
+  async function history(projectId: string): Promise<HistoryEntry[]> {
     const rows = await repo.listRevisions(db, projectId);
     return rows.map((r) => ({
       revision: r.revision,
@@ -224,21 +225,23 @@ export function createModelService(
     }));
   }
 
-  async function revision(projectId: string, revisionNumber: number) {
+  async function revision(projectId: string, revisionNumber: number): Promise<RevisionDetail> {
     const row = await repo.findRevision(db, projectId, revisionNumber);
     if (!row) throw notFound(`Revision ${revisionNumber}`);
+    // Entries recorded before the model had parts and features have no lists for them.
+    const diff = row.diff as Omit<ModelDiff, 'parts' | 'features'> & Partial<ModelDiff>;
     return {
       revision: row.revision,
       createdAt: row.createdAt.toISOString(),
       summary: row.summary,
       user: row.userId || row.userName ? { id: row.userId ?? '', name: row.userName ?? '' } : null,
-      diff: row.diff,
+      diff: { ...diff, parts: diff.parts ?? [], features: diff.features ?? [] },
       model: row.model as FairsheetModel,
     };
   }
 
   /** What changed from one revision to another, and which solved values moved. */
-  async function compare(projectId: string, from: number, to: number) {
+  async function compare(projectId: string, from: number, to: number): Promise<Comparison> {
     const [a, b] = await Promise.all([revision(projectId, from), revision(projectId, to)]);
     const diff = diffModels(a.model, b.model);
     const [before, after] = await Promise.all([solver.solve(a.model), solver.solve(b.model)]);

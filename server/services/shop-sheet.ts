@@ -29,7 +29,7 @@ import type { ProjectRow } from '../db/schema';
 import { toCsv } from '../http/csv';
 import { renderShopSheetPdf } from '../pdf/shop-sheet';
 import { defaultSolvePool, type SolvePool } from '../solve/pool';
-import type { ModelService, StoredModel } from './models';
+import type { CurrentModel, ModelService } from './models';
 
 /**
  * What a second person has signed off. Looked up by feature id first, then by the dimension
@@ -312,7 +312,7 @@ export function shopSheetCsv(sheet: ShopSheet): string {
 export function createShopSheetService(
   models: ModelService,
   options: {
-    reviews?: (projectId: string, stored: StoredModel) => Promise<ShopSheetReviews>;
+    reviews?: (projectId: string, stored: CurrentModel) => Promise<ShopSheetReviews>;
     solver?: SolvePool;
   } = {},
 ) {

@@ -47,7 +47,10 @@ export type LoginBody = z.infer<typeof loginBody>;
 export const registerMessage =
   'Check your mail: the next step is on its way to that address. A link to finish your account works once, for 24 hours.';
 
-export const registerMailed = z.object({ message: z.string() });
+/** An answer that is words for the person only: a mail is on its way, a password changed. */
+export const messageAnswer = z.object({ message: z.string() });
+
+export const registerMailed = messageAnswer;
 
 export const emailConfirmBody = z.object({ token: z.string().min(20).max(200) });
 
@@ -62,6 +65,9 @@ export const sessionResponse = z.object({
   csrfToken: z.string(),
 });
 export type SessionResponse = z.infer<typeof sessionResponse>;
+
+/** POST /register: signed in at once (an invitation sent to this address), or a mail to check. */
+export const registerAnswer = z.union([sessionResponse, registerMailed]);
 
 /** Answered to password-reset requests whether or not the address has an account. */
 export const passwordResetMessage =

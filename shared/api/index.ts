@@ -3,6 +3,7 @@ export * from './projects';
 export * from './errors';
 export * from './models';
 export * from './engine';
+export * from './solve-result';
 export * from './sheets';
 export * from './team';
 export * from './shop-sheet';

@@ -48,6 +48,12 @@ export const memberParams = z.object({
 });
 export const memberRoleBody = z.object({ role: projectRole });
 
+/**
+ * Who did something: an account's id and name, or for a former member (an account since deleted,
+ * or a person an imported bundle recorded) an empty id and the name as recorded.
+ */
+const person = user.pick({ name: true }).extend({ id: z.uuid().or(z.literal('')) });
+
 export const checkState = z.enum(['current', 'void']);
 export const check = z.object({
   dimension: z.string(),
@@ -56,7 +62,7 @@ export const check = z.object({
   value: z.number(),
   /** The value now (null when it no longer solves). */
   valueNow: z.number().nullable(),
-  checkedBy: user.pick({ id: true, name: true }),
+  checkedBy: person,
   checkedAt: z.string(),
   revision: z.number().int(),
 });
@@ -78,7 +84,7 @@ export const commentBody = z.object({
 export type CommentBody = z.input<typeof commentBody>;
 export const comment = commentBody.extend({
   id: z.uuid(),
-  author: user.pick({ id: true, name: true }),
+  author: person,
   createdAt: z.string(),
   /** Members the text @mentions; each was sent a mail. */
   mentions: z.array(z.string()),
@@ -113,7 +119,7 @@ export const correction = correctionBody.extend({
   id: z.uuid(),
   /** The title of the sheet it was found on, for people to read (the id is for links). */
   sheetTitle: z.string().nullable().optional(),
-  author: user.pick({ id: true, name: true }),
+  author: person,
   createdAt: z.string(),
 });
 export type Correction = z.infer<typeof correction>;
@@ -134,7 +140,7 @@ export const activityEntry = z.object({
   kind: activityKind,
   summary: z.string(),
   details: z.unknown(),
-  user: user.pick({ id: true, name: true }).nullable(),
+  user: person.nullable(),
   createdAt: z.string(),
 });
 export type ActivityEntry = z.infer<typeof activityEntry>;
@@ -142,3 +148,26 @@ export const activityQuery = z.object({
   kind: activityKind.optional(),
   limit: z.coerce.number().int().min(1).max(500).default(200),
 });
+
+// Answers.
+
+export const invitationList = z.object({ invitations: z.array(invitation) });
+
+/** POST /invitations/:token/accept: the project joined, with the role held there now. */
+export const invitationAccepted = z.object({ projectId: z.uuid(), role: projectRole });
+export type InvitationAccepted = z.infer<typeof invitationAccepted>;
+
+/** Derived values solved, and of them the checks still current and those void. */
+export const checkSummary = z.object({
+  derived: z.number().int().nonnegative(),
+  checked: z.number().int().nonnegative(),
+  void: z.number().int().nonnegative(),
+});
+export type CheckSummary = z.infer<typeof checkSummary>;
+
+export const checkList = z.object({ checks: z.array(check), summary: checkSummary });
+export type CheckList = z.infer<typeof checkList>;
+
+export const commentList = z.object({ comments: z.array(comment) });
+export const correctionList = z.object({ corrections: z.array(correction) });
+export const activityList = z.object({ entries: z.array(activityEntry) });

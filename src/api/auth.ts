@@ -1,5 +1,12 @@
-import type { LoginBody, RegisterBody, SessionResponse } from '@shared/api';
-import { request, setCsrfToken } from './client';
+import {
+  messageAnswer,
+  registerAnswer,
+  sessionResponse,
+  type LoginBody,
+  type RegisterBody,
+  type SessionResponse,
+} from '@shared/api';
+import { noAnswer, request, setCsrfToken } from './client';
 
 async function withToken(promise: Promise<SessionResponse>): Promise<SessionResponse> {
   const answer = await promise;
@@ -8,23 +15,20 @@ async function withToken(promise: Promise<SessionResponse>): Promise<SessionResp
 }
 
 export const authApi = {
-  session: () => withToken(request<SessionResponse>('GET', '/api/auth/session')),
-  login: (body: LoginBody) => withToken(request<SessionResponse>('POST', '/api/auth/login', body)),
+  session: () => withToken(request('GET', '/api/auth/session', sessionResponse)),
+  login: (body: LoginBody) =>
+    withToken(request('POST', '/api/auth/login', sessionResponse, body)),
   /** Signed in at once (an invitation sent to this address), or a message to check the mail. */
-  register: async (body: RegisterBody): Promise<SessionResponse | { message: string }> => {
-    const answer = await request<SessionResponse | { message: string }>(
-      'POST',
-      '/api/auth/register',
-      body,
-    );
+  register: async (body: RegisterBody) => {
+    const answer = await request('POST', '/api/auth/register', registerAnswer, body);
     if ('csrfToken' in answer) setCsrfToken(answer.csrfToken);
     return answer;
   },
   confirmEmail: (token: string) =>
-    withToken(request<SessionResponse>('POST', '/api/auth/confirm-email', { token })),
-  logout: () => request<void>('POST', '/api/auth/logout'),
+    withToken(request('POST', '/api/auth/confirm-email', sessionResponse, { token })),
+  logout: () => request('POST', '/api/auth/logout', noAnswer),
   requestReset: (email: string) =>
-    request<{ message: string }>('POST', '/api/auth/password-reset', { email }),
+    request('POST', '/api/auth/password-reset', messageAnswer, { email }),
   confirmReset: (token: string, password: string) =>
-    request<{ message: string }>('POST', '/api/auth/password-reset/confirm', { token, password }),
+    request('POST', '/api/auth/password-reset/confirm', messageAnswer, { token, password }),
 };

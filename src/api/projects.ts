@@ -1,15 +1,21 @@
-import type { CreateProjectBody, Member, Project, UpdateProjectBody } from '@shared/api';
-import { request } from './client';
+import {
+  memberList,
+  project,
+  projectList,
+  type CreateProjectBody,
+  type UpdateProjectBody,
+} from '@shared/api';
+import { noAnswer, request } from './client';
 
 const base = '/api/projects';
 const one = (id: string) => `${base}/${encodeURIComponent(id)}`;
 
 export const projectsApi = {
-  list: () => request<{ projects: Project[] }>('GET', base).then((r) => r.projects),
-  get: (id: string) => request<Project>('GET', one(id)),
-  create: (body: CreateProjectBody) => request<Project>('POST', base, body),
-  update: (id: string, body: UpdateProjectBody) => request<Project>('PATCH', one(id), body),
-  remove: (id: string) => request<void>('DELETE', one(id)),
+  list: () => request('GET', base, projectList).then((r) => r.projects),
+  get: (id: string) => request('GET', one(id), project),
+  create: (body: CreateProjectBody) => request('POST', base, project, body),
+  update: (id: string, body: UpdateProjectBody) => request('PATCH', one(id), project, body),
+  remove: (id: string) => request('DELETE', one(id), noAnswer),
   members: (id: string) =>
-    request<{ members: Member[] }>('GET', `${one(id)}/members`).then((r) => r.members),
+    request('GET', `${one(id)}/members`, memberList).then((r) => r.members),
 };

@@ -1,5 +1,14 @@
-import { errorBody, type ErrorCode, type Sheet, type UpdateSheetBody } from '@shared/api';
-import { ApiError, csrfToken, request } from './client';
+import {
+  errorBody,
+  sheet,
+  sheetList,
+  measureAnswer,
+  type ErrorCode,
+  type MeasureBody,
+  type Sheet,
+  type UpdateSheetBody,
+} from '@shared/api';
+import { ApiError, checkAnswer, csrfToken, noAnswer, request } from './client';
 
 const base = (projectId: string) => `/api/projects/${encodeURIComponent(projectId)}/sheets`;
 const one = (projectId: string, sheetId: string) =>
@@ -54,10 +63,17 @@ function upload(
     };
     xhr.onload = () => {
       if (xhr.status >= 200 && xhr.status < 300) {
+        let data: unknown;
         try {
-          resolve((JSON.parse(xhr.responseText) as { sheets: Sheet[] }).sheets);
+          data = JSON.parse(xhr.responseText);
         } catch {
           reject(new ApiError(xhr.status, 'internal', 'The server answered an unreadable list.'));
+          return;
+        }
+        try {
+          resolve(checkAnswer(sheetList, data, `POST ${base(projectId)}`).sheets);
+        } catch (err) {
+          reject(err);
         }
       } else {
         reject(xhrError(xhr));
@@ -79,11 +95,15 @@ function upload(
 
 export const sheetsApi = {
   list: (projectId: string) =>
-    request<{ sheets: Sheet[] }>('GET', base(projectId)).then((r) => r.sheets),
-  get: (projectId: string, sheetId: string) => request<Sheet>('GET', one(projectId, sheetId)),
+    request('GET', base(projectId), sheetList).then((r) => r.sheets),
+  get: (projectId: string, sheetId: string) => request('GET', one(projectId, sheetId), sheet),
   update: (projectId: string, sheetId: string, body: UpdateSheetBody) =>
-    request<Sheet>('PATCH', one(projectId, sheetId), body),
-  remove: (projectId: string, sheetId: string) => request<void>('DELETE', one(projectId, sheetId)),
+    request('PATCH', one(projectId, sheetId), sheet, body),
+  remove: (projectId: string, sheetId: string) =>
+    request('DELETE', one(projectId, sheetId), noAnswer),
+  /** A measurement between two pins: the sheet's record and the model's revision, written together. */
+  measure: (projectId: string, sheetId: string, body: MeasureBody) =>
+    request('POST', `${one(projectId, sheetId)}/measurements`, measureAnswer, body),
   fileUrl: (projectId: string, sheetId: string) => `${one(projectId, sheetId)}/file`,
   upload,
 };

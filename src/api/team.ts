@@ -1,16 +1,24 @@
-import type {
-  ActivityEntry,
-  Check,
-  Comment,
-  CommentBody,
-  Correction,
-  CorrectionBody,
-  Invitation,
-  InvitationBody,
-  InvitationPreview,
-  ProjectRole,
+import {
+  activityList,
+  check,
+  checkList,
+  comment,
+  commentList,
+  correction,
+  correctionList,
+  invitation,
+  invitationAccepted,
+  invitationList,
+  invitationPreview,
+  type ActivityEntry,
+  type CommentBody,
+  type CorrectionBody,
+  type InvitationBody,
+  type ProjectRole,
 } from '@shared/api';
-import { request } from './client';
+import { noAnswer, request } from './client';
+
+export type { CheckSummary } from '@shared/api';
 
 const project = (id: string) => `/api/projects/${encodeURIComponent(id)}`;
 const query = (params: Record<string, string | undefined>) => {
@@ -20,71 +28,73 @@ const query = (params: Record<string, string | undefined>) => {
   return text ? `?${text}` : '';
 };
 
-export interface CheckSummary {
-  derived: number;
-  checked: number;
-  void: number;
-}
-
 /** Invitations, members, checks, comments, corrections and activity of one project. */
 export const teamApi = {
   invitations: (projectId: string) =>
-    request<{ invitations: Invitation[] }>('GET', `${project(projectId)}/invitations`).then(
+    request('GET', `${project(projectId)}/invitations`, invitationList).then(
       (r) => r.invitations,
     ),
   invite: (projectId: string, body: InvitationBody) =>
-    request<Invitation>('POST', `${project(projectId)}/invitations`, body),
+    request('POST', `${project(projectId)}/invitations`, invitation, body),
   revokeInvitation: (projectId: string, invitationId: string) =>
-    request<void>(
+    request(
       'DELETE',
       `${project(projectId)}/invitations/${encodeURIComponent(invitationId)}`,
+      noAnswer,
     ),
   resendInvitation: (projectId: string, invitationId: string) =>
-    request<Invitation>(
+    request(
       'POST',
       `${project(projectId)}/invitations/${encodeURIComponent(invitationId)}/resend`,
+      invitation,
     ),
 
   /** What an invitation link says; answered signed out too. */
   previewInvitation: (token: string) =>
-    request<InvitationPreview>('GET', `/api/invitations/${encodeURIComponent(token)}`),
+    request('GET', `/api/invitations/${encodeURIComponent(token)}`, invitationPreview),
   acceptInvitation: (token: string) =>
-    request<{ projectId: string; role: ProjectRole }>(
+    request(
       'POST',
       `/api/invitations/${encodeURIComponent(token)}/accept`,
+      invitationAccepted,
     ),
 
   changeRole: (projectId: string, userId: string, role: ProjectRole) =>
-    request<unknown>('PATCH', `${project(projectId)}/members/${encodeURIComponent(userId)}`, {
-      role,
-    }),
+    request(
+      'PATCH',
+      `${project(projectId)}/members/${encodeURIComponent(userId)}`,
+      noAnswer,
+      { role },
+    ),
   removeMember: (projectId: string, userId: string) =>
-    request<void>('DELETE', `${project(projectId)}/members/${encodeURIComponent(userId)}`),
+    request('DELETE', `${project(projectId)}/members/${encodeURIComponent(userId)}`, noAnswer),
 
-  checks: (projectId: string) =>
-    request<{ checks: Check[]; summary: CheckSummary }>('GET', `${project(projectId)}/checks`),
+  checks: (projectId: string) => request('GET', `${project(projectId)}/checks`, checkList),
   check: (projectId: string, dimension: string) =>
-    request<Check>('POST', `${project(projectId)}/checks`, { dimension }),
+    request('POST', `${project(projectId)}/checks`, check, { dimension }),
   uncheck: (projectId: string, dimension: string) =>
-    request<void>('DELETE', `${project(projectId)}/checks/${encodeURIComponent(dimension)}`),
+    request(
+      'DELETE',
+      `${project(projectId)}/checks/${encodeURIComponent(dimension)}`,
+      noAnswer,
+    ),
 
   comments: (projectId: string, target: { targetKind?: string; targetId?: string } = {}) =>
-    request<{ comments: Comment[] }>('GET', `${project(projectId)}/comments${query(target)}`).then(
+    request('GET', `${project(projectId)}/comments${query(target)}`, commentList).then(
       (r) => r.comments,
     ),
   comment: (projectId: string, body: CommentBody) =>
-    request<Comment>('POST', `${project(projectId)}/comments`, body),
+    request('POST', `${project(projectId)}/comments`, comment, body),
 
   corrections: (projectId: string) =>
-    request<{ corrections: Correction[] }>('GET', `${project(projectId)}/corrections`).then(
+    request('GET', `${project(projectId)}/corrections`, correctionList).then(
       (r) => r.corrections,
     ),
   correct: (projectId: string, body: CorrectionBody) =>
-    request<Correction>('POST', `${project(projectId)}/corrections`, body),
+    request('POST', `${project(projectId)}/corrections`, correction, body),
 
   activity: (projectId: string, kind?: ActivityEntry['kind']) =>
-    request<{ entries: ActivityEntry[] }>(
-      'GET',
-      `${project(projectId)}/activity${query({ kind })}`,
-    ).then((r) => r.entries),
+    request('GET', `${project(projectId)}/activity${query({ kind })}`, activityList).then(
+      (r) => r.entries,
+    ),
 };
