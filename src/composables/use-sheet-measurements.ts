@@ -1,24 +1,22 @@
-import { DIMENSION_NAME, type FairsheetModelInput } from '@shared/engine';
-import { measureOnSheet, writeLength, type SheetMeasure } from '@/lib/sheet-calibration';
+import {
+  measurementNameProblem,
+  measureOnSheet,
+  scaledDimension,
+  type SheetMeasure,
+} from '@shared/api';
+import type { FairsheetModelInput } from '@shared/engine';
 import { useModelStore } from '@/stores/model';
-import { useSheetsStore } from '@/stores/sheets';
+import { useSheetsStore, type MeasureRequest } from '@/stores/sheets';
 
 type Dimension = FairsheetModelInput['dimensions'][number];
 
-export interface MeasureRequest {
-  from: string;
-  to: string;
-  name: string;
-  label: string;
-  /** The dimension's name before a rename. */
-  previousName?: string;
-}
+export type { MeasureRequest };
 
 /**
- * Measurements between pins and the `scaled` dimensions they keep in the model: the value and
- * tolerance are written from the calibration (its uncertainty and the pins' pick error, never
- * below the engine's floor), the sheet's record of which pins measure which dimension is PATCHed
- * with the sheet.
+ * Measurements between pins and the `scaled` dimensions they keep in the model. A new or
+ * re-taken measurement is one server operation (the sheets store's `measure`): the server
+ * measures with the same shared functions this shows the figure with, and writes the sheet's
+ * record and the model's dimension together.
  */
 export function useSheetMeasurements() {
   const sheets = useSheetsStore();
@@ -36,52 +34,19 @@ export function useSheetMeasurements() {
     }
   }
 
-  function dimensionOf(name: string, label: string, m: SheetMeasure): Dimension {
-    const unit = model.model.units;
-    const d: Dimension = {
-      name,
-      kind: 'scaled',
-      quantity: 'length',
-      value: writeLength(m.lengthMm, unit),
-      tol: writeLength(m.uncertaintyMm, unit, true),
-      sheet: sheets.current!.id,
-    };
-    if (label) d.label = label;
-    return d;
-  }
-
   /** Why a name cannot be used for this measurement, or '' when it can. */
   function nameProblem(name: string, previousName?: string): string {
-    if (!name) return 'Give the dimension a name';
-    if (!DIMENSION_NAME.test(name)) {
-      return 'A name is a letter or _ followed by letters, digits or _ (e.g. bore_ctr)';
-    }
-    if (name === previousName) return '';
-    const clash = model.model.dimensions.find((d) => d.name === name);
-    if (!clash) return '';
-    const ours = sheets.current?.measurements.some((m) => m.dimension === name);
-    if (clash.kind === 'scaled' && clash.sheet === sheets.current?.id && ours) {
-      return `${name} is already measured on this sheet; pick it in the list to re-measure it`;
-    }
-    // Measuring an unknown is how a missing dimension gets found: it becomes a scaled figure.
-    if (clash.kind === 'derived') return '';
-    return `There is already a ${clash.kind} dimension named ${name}`;
+    const sheet = sheets.current;
+    if (!sheet) return '';
+    return measurementNameProblem(model.model, sheet, name, previousName);
   }
 
-  /** Creates or updates the scaled dimension and records the measurement on the sheet. */
-  function commit(req: MeasureRequest): string {
+  /** Creates or updates the scaled dimension and the sheet's record of it, on the server. */
+  async function commit(req: MeasureRequest): Promise<string> {
     const problem = nameProblem(req.name, req.previousName);
     if (problem) return problem;
-    const m = measure(req.from, req.to);
-    if (!m) return 'Calibrate the sheet first, and use two different pins';
-    const existing = model.model.dimensions.find((d) => d.name === (req.previousName ?? req.name));
-    const dim = dimensionOf(req.name, req.label || existing?.label || '', m);
-    if (existing?.part) dim.part = existing.part;
-    if (existing?.note) dim.note = existing.note;
-    model.upsertDimension(dim, req.previousName);
-    sheets.putMeasurement(req.from, req.to, req.name, req.previousName);
-    model.selected = req.name;
-    return '';
+    if (!measure(req.from, req.to)) return 'Calibrate the sheet first, and use two different pins';
+    return sheets.measure(req);
   }
 
   /**
@@ -97,7 +62,16 @@ export function useSheetMeasurements() {
       if (!d || d.kind !== 'scaled' || (d.sheet && d.sheet !== sheet.id)) continue;
       const m = measure(rec.from, rec.to);
       if (!m) continue;
-      const next = { ...d, ...dimensionOf(d.name, d.label ?? '', m) };
+      const next = {
+        ...d,
+        ...scaledDimension({
+          name: d.name,
+          label: d.label ?? '',
+          measure: m,
+          unit: model.model.units,
+          sheetId: sheet.id,
+        }),
+      };
       if (next.value !== d.value || next.tol !== d.tol) updates.push(next);
     }
     if (!updates.length) return;

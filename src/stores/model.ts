@@ -3,46 +3,52 @@ import { computed, ref, shallowRef, toRaw } from 'vue';
 import {
   applyDiff,
   diffModels,
+  isEmptyDiff,
   solveModel,
   type FairsheetModelInput,
   type ModelDiff,
   type SolveResult,
 } from '@shared/engine';
+import { putDimension } from '@shared/api';
 import { ApiError } from '@/api/client';
 import { modelsApi } from '@/api/models';
+import {
+  createVersionedDocument,
+  type DocumentConflict,
+  type DocumentKind,
+} from '@/lib/versioned-document';
 import { useSessionStore } from './session';
 
 type Dimension = FairsheetModelInput['dimensions'][number];
 type Relation = NonNullable<FairsheetModelInput['relations']>[number];
 
-export interface SaveConflict {
-  currentRevision: number;
-  theirs: FairsheetModelInput;
-  /** What the other save changed, against the revision this edit started from. */
-  theirChanges: ModelDiff;
-  /** What this browser changed. */
-  myChanges: ModelDiff;
-}
+/** A save refused because someone else saved first: what each side changed. */
+export type SaveConflict = DocumentConflict<FairsheetModelInput, ModelDiff>;
+
+export { renameInExpression } from '@shared/api';
 
 const liveSolveDelayMs = 60;
-const undoDepth = 200;
 
 const clone = <T>(value: T): T => JSON.parse(JSON.stringify(value)) as T;
 
-/** Renames a dimension inside a relation, whole identifiers only (not inside longer names). */
-export function renameInExpression(expr: string, from: string, to: string): string {
-  const escaped = from.replace(/\./g, '\\.');
-  return expr.replace(new RegExp(`(?<![\\w.])${escaped}(?![\\w(.])`, 'g'), to);
-}
+/** The model as a versioned document: dimensions by name, the rest by id (shared/engine/diff.ts). */
+const modelDocument: DocumentKind<FairsheetModelInput, ModelDiff> = {
+  // The raw object: going through Vue's reactive proxies would cost more than the text.
+  snapshot: (m) => JSON.stringify(toRaw(m)),
+  restore: (text) => JSON.parse(text) as FairsheetModelInput,
+  diff: diffModels,
+  apply: applyDiff,
+  isEmpty: isEmptyDiff,
+};
 
 /**
  * The project's model as the builder edits it: a working copy, solved live in the browser
- * with the shared engine, saved to the server against the revision it was loaded at.
+ * with the shared engine, saved to the server against the revision it was loaded at (the
+ * versioned-document mechanism the sheets use too; a 409 asks which way to go).
  */
 export const useModelStore = defineStore('model', () => {
   const projectId = ref('');
   const revision = ref(0);
-  const base = shallowRef<FairsheetModelInput | null>(null);
   const model = ref<FairsheetModelInput>({
     format: 'fairsheet.model',
     version: 1,
@@ -58,14 +64,39 @@ export const useModelStore = defineStore('model', () => {
   const saving = ref(false);
   const loading = ref(false);
   const conflict = shallowRef<SaveConflict | null>(null);
-  const undoStack: string[] = [];
-  const redoStack: string[] = [];
   const canUndo = ref(false);
   const canRedo = ref(false);
   let timer: ReturnType<typeof setTimeout> | undefined;
 
   const dirty = computed(() => edits.value > 0);
   const dimensionNames = computed(() => model.value.dimensions.map((d) => d.name));
+
+  /** The note of the save asked for last (the history shows it instead of the summary). */
+  let pendingNote: string | undefined;
+  const doc = createVersionedDocument<FairsheetModelInput, ModelDiff>({
+    kind: modelDocument,
+    read: () => model.value,
+    write: (m) => {
+      model.value = m;
+    },
+    save: (m, rev) => modelsApi.save(projectId.value, rev, m, pendingNote),
+    conflictOf: (err) => {
+      if (!(err instanceof ApiError) || err.code !== 'conflict') return null;
+      const details = err.details as { currentRevision: number; model: FairsheetModelInput };
+      return { revision: details.currentRevision, theirs: details.model };
+    },
+    // The model's changes are the builder's figures: a 409 always shows both sides.
+    onConflict: 'ask',
+    onState: (s) => {
+      revision.value = s.revision;
+      canUndo.value = s.canUndo;
+      canRedo.value = s.canRedo;
+      edits.value = s.unsaved;
+      saving.value = s.saveState === 'saving';
+      conflict.value = s.conflict;
+    },
+    onChange: () => scheduleSolve(),
+  });
 
   function solveNow() {
     clearTimeout(timer);
@@ -85,58 +116,30 @@ export const useModelStore = defineStore('model', () => {
     try {
       const stored = await modelsApi.get(id);
       projectId.value = id;
-      revision.value = stored.revision;
-      base.value = stored.model;
-      model.value = clone(stored.model);
       updatedBy.value = stored.updatedBy;
-      edits.value = 0;
-      conflict.value = null;
-      undoStack.length = 0;
-      redoStack.length = 0;
-      canUndo.value = canRedo.value = false;
+      doc.load(stored.revision, stored.model);
       solveNow();
     } finally {
       loading.value = false;
     }
   }
 
-  /** Every change goes through here: one undo step, then a live re-solve. */
-  function edit(change: (m: FairsheetModelInput) => void) {
-    undoStack.push(JSON.stringify(model.value));
-    if (undoStack.length > undoDepth) undoStack.shift();
-    redoStack.length = 0;
-    change(model.value);
-    edits.value += 1;
-    canUndo.value = true;
-    canRedo.value = false;
-    scheduleSolve();
+  /**
+   * Every change goes through here: one undo step, then a live re-solve. Edits naming the same
+   * `group` one after another (the fields of one form) are one undo step.
+   */
+  function edit(change: (m: FairsheetModelInput) => void, group?: string) {
+    doc.edit(change, group);
   }
 
-  function step(from: string[], to: string[]) {
-    const snapshot = from.pop();
-    if (!snapshot) return;
-    to.push(JSON.stringify(model.value));
-    model.value = JSON.parse(snapshot);
-    edits.value += 1;
-    canUndo.value = undoStack.length > 0;
-    canRedo.value = redoStack.length > 0;
-    scheduleSolve();
-  }
-  const undo = () => step(undoStack, redoStack);
-  const redo = () => step(redoStack, undoStack);
+  const undo = () => doc.undo();
+  const redo = () => doc.redo();
 
   function upsertDimension(dimension: Dimension, previousName?: string) {
-    edit((m) => {
-      const key = previousName ?? dimension.name;
-      const at = m.dimensions.findIndex((d) => d.name === key);
-      if (at >= 0) m.dimensions[at] = dimension;
-      else m.dimensions.push(dimension);
-      if (previousName && previousName !== dimension.name) {
-        for (const r of m.relations ?? [])
-          r.expr = renameInExpression(r.expr, previousName, dimension.name);
-        if (selected.value === previousName) selected.value = dimension.name;
-      }
-    });
+    edit((m) => putDimension(m, dimension, previousName));
+    if (previousName && previousName !== dimension.name && selected.value === previousName) {
+      selected.value = dimension.name;
+    }
   }
 
   function removeDimension(name: string) {
@@ -176,58 +179,57 @@ export const useModelStore = defineStore('model', () => {
     });
   }
 
+  /**
+   * Saves the working copy; while a save is in flight, this one waits and goes with whatever
+   * was edited meanwhile. A 409 opens the choice (`conflict`) and rejects.
+   */
   async function save(note?: string) {
-    if (saving.value) return;
-    saving.value = true;
-    const sent = clone(model.value);
-    const editsAtSend = edits.value;
+    pendingNote = note;
     try {
-      const answer = await modelsApi.save(projectId.value, revision.value, sent, note);
-      revision.value = answer.revision;
-      base.value = sent;
+      await doc.save();
       updatedBy.value = useSessionStore().user?.name ?? updatedBy.value;
-      // Edits typed while the save was in flight stay unsaved.
-      edits.value -= editsAtSend;
-      conflict.value = null;
-    } catch (err) {
-      if (err instanceof ApiError && err.code === 'conflict') {
-        const details = err.details as { currentRevision: number; model: FairsheetModelInput };
-        conflict.value = {
-          currentRevision: details.currentRevision,
-          theirs: details.model,
-          theirChanges: diffModels(base.value ?? sent, details.model),
-          myChanges: diffModels(base.value ?? sent, sent),
-        };
-      }
-      throw err;
     } finally {
-      saving.value = false;
+      if (pendingNote === note) pendingNote = undefined;
     }
   }
 
   /** After a 409: drop this browser's edits and take the newer save. */
   function takeTheirs() {
-    const c = conflict.value;
-    if (!c) return;
-    revision.value = c.currentRevision;
-    base.value = c.theirs;
-    model.value = clone(c.theirs);
-    edits.value = 0;
-    conflict.value = null;
+    doc.takeTheirs();
     solveNow();
   }
 
   /** After a 409: replay this browser's edits on the newer save, ready to save again. */
   function reapplyMine() {
-    const c = conflict.value;
-    if (!c) return;
-    revision.value = c.currentRevision;
-    base.value = c.theirs;
-    model.value = clone(applyDiff(c.theirs, c.myChanges));
-    edits.value = 1;
-    conflict.value = null;
+    doc.keepMine();
     solveNow();
   }
+
+  /**
+   * Takes a revision the server wrote from this copy's revision (a measurement on a sheet):
+   * unsaved edits are replayed on it, and it is one undo step.
+   */
+  function adopt(rev: number, next: FairsheetModelInput) {
+    doc.adopt(rev, next, { undoable: true });
+    updatedBy.value = useSessionStore().user?.name ?? updatedBy.value;
+  }
+
+  /**
+   * Meets a newer revision someone else saved (a measurement's 409): taken in at once when
+   * this browser has changed nothing, else the choice is left in `conflict` (answers false).
+   */
+  function meet(rev: number, theirs: FairsheetModelInput): boolean {
+    if (isEmptyDiff(diffModels(doc.base(), toRaw(model.value)))) {
+      doc.adopt(rev, theirs);
+      solveNow();
+      return true;
+    }
+    doc.meet(rev, theirs);
+    return false;
+  }
+
+  /** The server's model at the revision the working copy is based on. */
+  const stored = () => doc.base();
 
   return {
     projectId,
@@ -259,5 +261,8 @@ export const useModelStore = defineStore('model', () => {
     save,
     takeTheirs,
     reapplyMine,
+    adopt,
+    meet,
+    stored,
   };
 });

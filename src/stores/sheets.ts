@@ -1,24 +1,33 @@
 import { defineStore } from 'pinia';
 import { computed, ref, shallowRef } from 'vue';
-import type { Measurement, Pin, Sheet, SheetCalibrationDto, UpdateSheetBody } from '@shared/api';
+import type { Sheet, SheetCalibrationDto, UpdateSheetBody } from '@shared/api';
 import { rotateSheetPoint, straightenRotation, type SheetPoint } from '@shared/engine';
 import { ApiError } from '@/api/client';
 import { describeError } from '@/api/messages';
 import { sheetsApi } from '@/api/sheets';
+import { editsOf, sheetDocument, type SheetChanges, type SheetEdits } from '@/lib/sheet-document';
+import {
+  createVersionedDocument,
+  type DocumentConflict,
+  type SaveState,
+} from '@/lib/versioned-document';
+import { useModelStore } from './model';
 import { tryBuildCalibration } from '@/lib/sheet-calibration';
 import { fitView, keepCentre, zoomAround, type ScreenSize, type SheetView } from '@/lib/sheet-view';
 
-/** What a canvas edit can change: the part of a sheet that undo steps through and PATCH saves. */
-export interface SheetEdits {
-  rotation: Sheet['rotation'];
-  straighten: number;
-  calibration: SheetCalibrationDto | null;
-  pins: Pin[];
-  measurements: Measurement[];
-}
+export type { SheetEdits, SaveState };
 
 export type SheetTool = 'pan' | 'pin' | 'measure' | 'pick';
-export type SaveState = 'saved' | 'unsaved' | 'saving' | 'failed';
+
+/** A measurement between two pins, named: the server measures it and writes both documents. */
+export interface MeasureRequest {
+  from: string;
+  to: string;
+  name: string;
+  label: string;
+  /** The dimension's name before a rename. */
+  previousName?: string;
+}
 
 /** A batch of files on its way up, for the progress bar. */
 export interface UploadBatch {
@@ -47,15 +56,6 @@ export interface PickRequest {
 }
 
 const autosaveDelayMs = 800;
-const undoDepth = 200;
-
-const editsOf = (s: Sheet): SheetEdits => ({
-  rotation: s.rotation,
-  straighten: s.straighten,
-  calibration: s.calibration,
-  pins: s.pins,
-  measurements: s.measurements,
-});
 
 const clone = <T>(v: T): T => JSON.parse(JSON.stringify(v)) as T;
 
@@ -96,12 +96,47 @@ export const useSheetsStore = defineStore('sheets', () => {
   const notice = ref('');
   const canUndo = ref(false);
   const canRedo = ref(false);
-  const undoStack: string[] = [];
-  const redoStack: string[] = [];
-  let saveTimer: ReturnType<typeof setTimeout> | undefined;
-  let inFlight: Promise<void> | null = null;
-  let editsSinceSave = 0;
+  /** Someone else changed what this browser changed too: which way to go is the builder's. */
+  const conflict = shallowRef<DocumentConflict<SheetEdits, SheetChanges> | null>(null);
   let batchSeq = 0;
+
+  // The open sheet's edits as a versioned document: undo by edit, autosave, and a 409 merged
+  // with the other save (asked only when both changed the same pin, measurement or setting).
+  const doc = createVersionedDocument<SheetEdits, SheetChanges>({
+    kind: sheetDocument,
+    read: () => current.value!,
+    write: (e) => {
+      if (current.value) Object.assign(current.value, e);
+    },
+    save: async (e, revision) => {
+      const id = current.value!.id;
+      const saved = await sheetsApi.update(projectId.value, id, { revision, ...e });
+      if (current.value?.id === saved.id) current.value.updatedAt = saved.updatedAt;
+      sheets.value = sheets.value.map((x) => (x.id === saved.id ? saved : x));
+      return { revision: saved.revision };
+    },
+    conflictOf: (err) => {
+      if (!(err instanceof ApiError) || err.code !== 'conflict') return null;
+      const details = err.details as { currentRevision: number; sheet?: Sheet };
+      if (!details.sheet) return null;
+      return { revision: details.currentRevision, theirs: editsOf(details.sheet) };
+    },
+    onConflict: 'merge',
+    autosaveMs: autosaveDelayMs,
+    onState: (st) => {
+      if (current.value) current.value.revision = st.revision;
+      canUndo.value = st.canUndo;
+      canRedo.value = st.canRedo;
+      saveState.value = st.saveState;
+      saveError.value = st.saveState === 'failed' ? describeError(st.error) : '';
+      conflict.value = st.conflict;
+    },
+    onMerged: () => {
+      notice.value =
+        'Someone else saved this sheet while you were working. Their changes and yours are ' +
+        'both kept.';
+    },
+  });
 
   const turn = computed(() =>
     current.value ? current.value.rotation + current.value.straighten : 0,
@@ -163,15 +198,16 @@ export const useSheetsStore = defineStore('sheets', () => {
   }
 
   async function patchMeta(sheet: Sheet, body: Omit<UpdateSheetBody, 'revision'>) {
+    const open = current.value?.id === sheet.id;
     const saved = await sheetsApi.update(projectId.value, sheet.id, {
-      revision: sheet.revision,
+      revision: open ? doc.revision : sheet.revision,
       ...body,
     });
     sheets.value = sheets.value.map((s) => (s.id === saved.id ? saved : s));
-    if (current.value?.id === saved.id) {
+    if (open && current.value?.id === saved.id) {
       current.value.title = saved.title;
       current.value.kind = saved.kind;
-      current.value.revision = saved.revision;
+      doc.adopt(saved.revision, editsOf(saved));
     }
     return saved;
   }
@@ -183,128 +219,136 @@ export const useSheetsStore = defineStore('sheets', () => {
 
   // ---- the open sheet -------------------------------------------------------------------
 
-  function resetHistory() {
-    undoStack.length = 0;
-    redoStack.length = 0;
-    canUndo.value = canRedo.value = false;
-  }
-
   async function open(pid: string, sheetId: string) {
+    // The sheet open until now is saved first: the document moves on to the next one.
+    await doc.flush().catch(() => {});
+    doc.dispose();
     projectId.value = pid;
     cancelPick();
     current.value = null;
     const sheet = await sheetsApi.get(pid, sheetId);
     current.value = sheet;
+    doc.load(sheet.revision, sheet);
     selectedPin.value = null;
     pendingMeasure.value = null;
     measureFrom.value = null;
     guides.value = [];
-    saveState.value = 'saved';
-    saveError.value = '';
     notice.value = '';
-    editsSinceSave = 0;
-    resetHistory();
     fit();
   }
 
   /** Opens a sheet already in hand (the benchmark page; no server round trip). */
   function openLocal(sheet: Sheet) {
     current.value = clone(sheet);
-    resetHistory();
+    doc.load(sheet.revision, current.value);
     fit();
   }
 
   function close() {
     cancelPick();
-    clearTimeout(saveTimer);
+    doc.dispose();
     current.value = null;
   }
 
-  /** Every canvas edit goes through here: one undo step, then a debounced save. */
-  function edit(change: (s: SheetEdits) => void) {
-    const s = current.value;
-    if (!s) return;
-    undoStack.push(JSON.stringify(editsOf(s)));
-    if (undoStack.length > undoDepth) undoStack.shift();
-    redoStack.length = 0;
-    // In place, so only what changed is redrawn (one dragged pin, not all 2,000).
-    change(s);
-    canUndo.value = true;
-    canRedo.value = false;
-    touched();
+  /**
+   * Every canvas edit goes through here: one undo step, then a debounced save. Edits naming
+   * the same `group` one after another are one undo step. Changed in place, so only what
+   * changed is redrawn (one dragged pin, not all 2,000).
+   */
+  function edit(change: (s: SheetEdits) => void, group?: string) {
+    if (!current.value) return;
+    doc.edit(change, group);
   }
 
-  function step(from: string[], to: string[]) {
+  function step(go: () => void) {
     const s = current.value;
-    const snapshot = from.pop();
-    if (!s || !snapshot) return;
-    to.push(JSON.stringify(editsOf(s)));
+    if (!s) return;
     const before = s.rotation + s.straighten;
-    Object.assign(s, JSON.parse(snapshot) as SheetEdits);
+    go();
     if (before !== s.rotation + s.straighten) {
       view.value = keepCentre(view.value, before, s.rotation + s.straighten, screen.value);
     }
     if (selectedPin.value && !pinsById.value.has(selectedPin.value)) selectedPin.value = null;
-    canUndo.value = undoStack.length > 0;
-    canRedo.value = redoStack.length > 0;
-    touched();
   }
-  const undo = () => step(undoStack, redoStack);
-  const redo = () => step(redoStack, undoStack);
+  const undo = () => step(doc.undo);
+  const redo = () => step(doc.redo);
 
-  function touched() {
-    editsSinceSave += 1;
-    saveState.value = 'unsaved';
-    clearTimeout(saveTimer);
-    saveTimer = setTimeout(() => void save(), autosaveDelayMs);
-  }
-
-  /** PATCHes the working copy against the revision it was loaded at; 409 reloads the sheet. */
+  /**
+   * Saves the working copy now (autosave does it 800 ms after an edit); one save in flight,
+   * later ones wait and go as one. A 409 is merged with the other save, or asks (`conflict`).
+   */
   async function save(): Promise<void> {
-    clearTimeout(saveTimer);
-    if (inFlight) {
-      await inFlight;
-      if (editsSinceSave > 0) return save();
-      return;
-    }
+    if (!current.value) return;
+    await doc.save().catch(() => {});
+  }
+
+  /** After a clash: keep this browser's changes on top of the other save's, and save them. */
+  function keepMine() {
+    step(doc.keepMine);
+    void save();
+  }
+
+  /** After a clash: take the other save's sheet, dropping this browser's changes. */
+  function takeTheirs() {
+    step(doc.takeTheirs);
+  }
+
+  /**
+   * A measurement between two pins, as one server operation: the sheet is saved first (the
+   * server measures with the stored pins and calibration), then the server writes the sheet's
+   * record and the model's scaled dimension together; both answers are taken into their
+   * documents (the measurement is one undo step on the sheet). Answers '' or what went wrong.
+   * Someone else's newer sheet or model is taken in once and the measurement sent again.
+   */
+  async function measure(req: MeasureRequest): Promise<string> {
     const s = current.value;
-    if (!s || editsSinceSave === 0) return;
-    const sentEdits = editsSinceSave;
-    const body: UpdateSheetBody = { revision: s.revision, ...clone(editsOf(s)) };
-    saveState.value = 'saving';
-    inFlight = (async () => {
-      try {
-        const saved = await sheetsApi.update(projectId.value, s.id, body);
-        if (current.value?.id !== saved.id) return;
-        current.value.revision = saved.revision;
-        current.value.updatedAt = saved.updatedAt;
-        sheets.value = sheets.value.map((x) => (x.id === saved.id ? saved : x));
-        editsSinceSave -= sentEdits;
-        saveState.value = editsSinceSave > 0 ? 'unsaved' : 'saved';
-        saveError.value = '';
-      } catch (err) {
-        if (err instanceof ApiError && err.code === 'conflict') {
-          const fresh = await sheetsApi.get(projectId.value, s.id).catch(() => null);
-          if (fresh && current.value?.id === fresh.id) {
-            current.value = fresh;
-            editsSinceSave = 0;
-            resetHistory();
-            saveState.value = 'saved';
-            notice.value =
-              'Someone else saved this sheet while you were working. It has been reloaded with ' +
-              'their version; your last changes were not kept — please make them again.';
-            return;
-          }
-        }
-        saveState.value = 'failed';
-        saveError.value = describeError(err);
-      } finally {
-        inFlight = null;
+    if (!s) return 'Open a sheet first';
+    const model = useModelStore();
+    for (let attempt = 0; ; attempt += 1) {
+      await doc.flush().catch(() => {});
+      const st = doc.state();
+      if (st.conflict) {
+        return 'Someone else changed the same pins on this sheet: choose whose to keep, then measure again';
       }
-    })();
-    await inFlight;
-    if (editsSinceSave > 0 && (saveState.value as SaveState) === 'unsaved') {
-      saveTimer = setTimeout(() => void save(), autosaveDelayMs);
+      if (st.unsaved > 0) return `The sheet could not be saved first: ${saveError.value}`;
+      try {
+        const answer = await sheetsApi.measure(projectId.value, s.id, {
+          sheetRevision: doc.revision,
+          modelRevision: model.revision,
+          from: req.from,
+          to: req.to,
+          dimension: req.name,
+          label: req.label || undefined,
+          previousName: req.previousName,
+        });
+        if (current.value?.id === answer.sheet.id) {
+          doc.adopt(answer.sheet.revision, editsOf(answer.sheet), { undoable: true });
+          current.value.updatedAt = answer.sheet.updatedAt;
+        }
+        sheets.value = sheets.value.map((x) => (x.id === answer.sheet.id ? answer.sheet : x));
+        model.adopt(answer.model.revision, answer.model.model);
+        model.selected = answer.dimension;
+        return '';
+      } catch (err) {
+        if (attempt > 0 || !(err instanceof ApiError) || err.code !== 'conflict') {
+          return describeError(err);
+        }
+        // Someone saved first: take their sheet or model in, then measure once more.
+        const details = err.details as {
+          currentRevision: number;
+          sheet?: Sheet;
+          model?: Parameters<typeof model.adopt>[1];
+        };
+        if (details.sheet && !doc.meet(details.currentRevision, editsOf(details.sheet))) {
+          return 'Someone else changed the same pins on this sheet: choose whose to keep, then measure again';
+        }
+        if (details.model && !model.meet(details.currentRevision, details.model)) {
+          return (
+            'Someone else saved the model while you had unsaved changes: save it (choosing ' +
+            'whose changes to keep), then measure again'
+          );
+        }
+      }
     }
   }
 
@@ -500,10 +544,14 @@ export const useSheetsStore = defineStore('sheets', () => {
     open,
     openLocal,
     close,
+    conflict,
     edit,
     undo,
     redo,
     save,
+    keepMine,
+    takeTheirs,
+    measure,
     setScreen,
     fit,
     zoomBy,

@@ -202,8 +202,13 @@ async function measureBetweenPins(
   const shown = (await page.getByTestId('measure-value').innerText()).replace(/\s+/g, ' ');
   await page.locator('#measure-name').fill(name);
   await page.locator('#measure-label').fill(label);
+  const strip = page.getByTestId('status-strip');
+  const before = Number((await strip.innerText()).match(/revision (\d+)/)![1]);
   await page.getByTestId('measure-save').click();
   await form.waitFor({ state: 'hidden' });
+  // One server operation writes the sheet's record and the model's next revision together.
+  await expect.poll(() => strip.innerText()).toMatch(new RegExp(`revision ${before + 1}\\b`));
+  expect(await strip.innerText()).not.toContain('unsaved');
   const tol = /±\s*([\d.]+)/.exec(shown)![1];
   // The list beside the sheet shows the scaled dimension as the model now holds it.
   await expect
@@ -350,7 +355,6 @@ describe('a new builder’s journey, from an empty account to the shop sheet, in
       );
       expect(overall.value).toContain('10.0000 in');
       expect(overall.tol).toBeGreaterThanOrEqual(0.05);
-      await saveModel(page);
       await shot(page, '05a-drawing-measured');
 
       // 4b. The photo, by four corners of the 80 × 24 in panel, at the model's 1:8.
@@ -389,7 +393,6 @@ describe('a new builder’s journey, from an empty account to the shop sheet, in
       expect(span.value).toContain('7.7500 in');
       // 0.5 % of 7.75 in.
       expect(span.tol).toBeGreaterThanOrEqual(0.03875);
-      await saveModel(page);
       await shot(page, '05b-photo-measured');
 
       // 6. The figures of the drawing and the chains between them.
