@@ -220,4 +220,23 @@ describe('generated expressions of any depth and width', () => {
     expect(statuses.get(200)).toBeGreaterThan(0);
     expect(statuses.get(413)).toBeGreaterThan(0);
   }, 300_000);
+
+  it('10,000 generated expressions posted to POST /api/solve: none answers 500', async () => {
+    const statuses = new Map<number, number>();
+    await fc.assert(
+      fc.asyncProperty(expression, async (expr) => {
+        const res = await builder.post('/api/solve', {
+          model: model([{ id: 'r', expr: `x = ${expr}` }]),
+        });
+        statuses.set(res.status, (statuses.get(res.status) ?? 0) + 1);
+        expect([200, 400, 413]).toContain(res.status);
+        if (res.status !== 200) expect(res.body.error.message.length).toBeGreaterThan(0);
+        else expect(res.body.values.x).toBeDefined();
+      }),
+      { numRuns: 10_000 },
+    );
+    // The generator reaches both sides of the limits: solved answers and refusals.
+    expect(statuses.get(200)).toBeGreaterThan(1000);
+    expect(statuses.get(413)).toBeGreaterThan(1000);
+  }, 600_000);
 });
