@@ -133,7 +133,12 @@ export async function createTestApp(
     uploadTempDir,
     async close() {
       await sink.close();
-      await database.pool.end();
+      // As the app's own stop does: pool.end() waits for every client in use, and a client left
+      // waiting on a connection the database dropped (the restart suite) would hold it for good.
+      await Promise.race([
+        database.pool.end(),
+        new Promise<void>((resolve) => setTimeout(resolve, 5000).unref()),
+      ]);
       await testDb.drop();
       for (const dir of [storageDir, uploadTempDir]) {
         if (dir) rmSync(dir, { recursive: true, force: true });
