@@ -43,7 +43,12 @@ type ModelInputList<K extends 'dimensions' | 'relations' | 'parts' | 'features'>
   FairsheetModelInput[K]
 >[number];
 
-const fieldChange = z.object({ field: z.string(), from: z.unknown(), to: z.unknown() });
+// `from` or `to` is left out of the JSON when the field was added or removed (it was undefined).
+const fieldChange = z.object({
+  field: z.string(),
+  from: z.unknown().default(undefined),
+  to: z.unknown().default(undefined),
+});
 
 function itemChange<T>() {
   const item = z.custom<T>(isObject, { message: 'Expected an item of the model' });
