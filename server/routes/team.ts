@@ -3,6 +3,7 @@ import { rateLimit, type RateLimitInfo } from 'express-rate-limit';
 import {
   activityQuery,
   checkBody,
+  checkerRoles,
   checkParams,
   commentBody,
   commentQuery,
@@ -13,7 +14,7 @@ import {
   memberParams,
   memberRoleBody,
   projectId,
-  type ProjectRole,
+  reviewerRoles,
 } from '@shared/api';
 import { anyMember, requireProjectRole, type ProjectAccess } from '../auth/roles';
 import { requireUser } from '../auth/session';
@@ -93,8 +94,8 @@ function sendLimiter(
   });
 }
 
-const reviewers: ProjectRole[] = ['owner', 'editor', 'checker'];
-const checkers: ProjectRole[] = ['owner', 'checker'];
+const reviewers = reviewerRoles;
+const checkers = checkerRoles;
 
 /** Team and review routes under /api/projects/:projectId. */
 export function teamRoutes(

@@ -8,6 +8,12 @@ export type ProjectRole = z.infer<typeof projectRole>;
 /** The roles that may change a project's model, sheets and parts. */
 export const editorRoles: readonly ProjectRole[] = ['owner', 'editor'];
 
+/** The roles that may comment and record corrections: every member but a viewer. */
+export const reviewerRoles: readonly ProjectRole[] = ['owner', 'editor', 'checker'];
+
+/** The roles that may check a derived value (a second person's check). */
+export const checkerRoles: readonly ProjectRole[] = ['owner', 'checker'];
+
 /**
  * Whether a member with this role may edit (no role: not a member, may not).
  *

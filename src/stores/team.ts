@@ -1,15 +1,17 @@
 import { defineStore } from 'pinia';
 import { computed, ref } from 'vue';
-import type {
-  ActivityEntry,
-  Check,
-  Comment,
-  CommentBody,
-  Correction,
-  CorrectionBody,
-  Invitation,
-  InvitationBody,
-  ProjectRole,
+import {
+  checkerRoles,
+  reviewerRoles,
+  type ActivityEntry,
+  type Check,
+  type Comment,
+  type CommentBody,
+  type Correction,
+  type CorrectionBody,
+  type Invitation,
+  type InvitationBody,
+  type ProjectRole,
 } from '@shared/api';
 import { projectsApi } from '@/api/projects';
 import { teamApi, type CheckSummary } from '@/api/team';
@@ -65,9 +67,9 @@ export const useTeamStore = defineStore('team', () => {
   const can = computed(() => {
     const role = useProjectsStore().current?.role;
     return {
-      check: role === 'owner' || role === 'checker',
-      comment: role !== undefined && role !== 'viewer',
-      correct: role === 'owner' || role === 'editor' || role === 'checker',
+      check: role !== undefined && checkerRoles.includes(role),
+      comment: role !== undefined && reviewerRoles.includes(role),
+      correct: role !== undefined && reviewerRoles.includes(role),
       manageTeam: role === 'owner',
     };
   });
