@@ -15,6 +15,7 @@
 
 import { MM_PER_FT, MM_PER_IN } from './length';
 import { factorDense } from './numeric';
+import { parseMixedNumber } from './quantity';
 
 /** A point on the sheet in pixels (x right, y down). */
 export interface SheetPoint {
@@ -761,27 +762,6 @@ export interface ModelScale {
   readonly ratio: number;
   /** As builders write it: `1:8`. */
   readonly label: string;
-}
-
-// prettier-ignore
-const UNICODE_FRACTIONS: Readonly<Record<string, number>> = {
-  '½': 1 / 2, '¼': 1 / 4, '¾': 3 / 4, '⅛': 1 / 8, '⅜': 3 / 8, '⅝': 5 / 8, '⅞': 7 / 8,
-  '⅓': 1 / 3, '⅔': 2 / 3, '⅙': 1 / 6, '⅚': 5 / 6, '⅕': 1 / 5,
-};
-
-/** `1½`, `1 1/2`, `1-1/2`, `3/4`, `1.5`, `½` → a number; undefined otherwise. */
-function parseMixedNumber(text: string): number | undefined {
-  const t = text.trim();
-  const uni = /^(\d*)\s*([½¼¾⅛⅜⅝⅞⅓⅔⅙⅚⅕])$/.exec(t);
-  if (uni) return (uni[1] ? Number(uni[1]) : 0) + UNICODE_FRACTIONS[uni[2]];
-  const mixed = /^(\d+)[\s-]+(\d+)\/(\d+)$/.exec(t);
-  if (mixed && Number(mixed[3]) !== 0) {
-    return Number(mixed[1]) + Number(mixed[2]) / Number(mixed[3]);
-  }
-  const frac = /^(\d+)\/(\d+)$/.exec(t);
-  if (frac && Number(frac[2]) !== 0) return Number(frac[1]) / Number(frac[2]);
-  if (/^(\d+(\.\d*)?|\.\d+)$/.test(t)) return Number(t);
-  return undefined;
 }
 
 function formatRatioLabel(ratio: number): string {

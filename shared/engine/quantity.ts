@@ -364,6 +364,41 @@ export function parseQuantity(text: string): Quantity {
   return q;
 }
 
+// prettier-ignore
+const VULGAR_FRACTIONS: Readonly<Record<string, string>> = {
+  '½': '1/2', '¼': '1/4', '¾': '3/4', '⅛': '1/8', '⅜': '3/8', '⅝': '5/8', '⅞': '7/8',
+  '⅓': '1/3', '⅔': '2/3', '⅙': '1/6', '⅚': '5/6', '⅕': '1/5',
+};
+
+/**
+ * A bare number as builders write one in words (a model scale, `1½ in to the foot`): whole,
+ * decimal, fraction or mixed (`1 1/2`, `1-1/2`), or with a fraction character (`1½`, `½`),
+ * read by the same rules as a quantity and converted from its exact rational. Undefined for
+ * anything else, a unit or a sign included.
+ *
+ * @example parseMixedNumber('1½') // 1.5
+ * @example parseMixedNumber('1-1/2') // 1.5
+ * @example parseMixedNumber('1/2 in') // undefined
+ */
+export function parseMixedNumber(text: string): number | undefined {
+  const t = text
+    .trim()
+    // `1 ½` and `1½` are `1 1/2`.
+    .replace(/^(\d*)\s*([½¼¾⅛⅜⅝⅞⅓⅔⅙⅚⅕])$/, (_, whole: string, f: string) =>
+      whole ? `${whole} ${VULGAR_FRACTIONS[f]}` : VULGAR_FRACTIONS[f],
+    )
+    // Any run of spaces and hyphens joins a whole number to its fraction.
+    .replace(/^(\d+)[\s-]+(?=\d+\/)/, '$1 ');
+  const sc = new Scanner(t);
+  try {
+    const part = readNumberPart(sc);
+    return sc.pos === t.length ? ratioToNumber(part.r.num, part.r.den) : undefined;
+  } catch (e) {
+    if (e instanceof QuantityError) return undefined;
+    throw e;
+  }
+}
+
 /**
  * The quantity's value in a model unit (a plain number is taken to be in that unit already),
  * converted from its exact rational with a single rounding.

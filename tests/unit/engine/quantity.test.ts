@@ -6,7 +6,13 @@ import {
   formatLength,
   nearestFraction,
 } from '@shared/engine/length';
-import { QuantityError, parseQuantity, quantityIn, suggestNominal } from '@shared/engine/quantity';
+import {
+  QuantityError,
+  parseMixedNumber,
+  parseQuantity,
+  quantityIn,
+  suggestNominal,
+} from '@shared/engine/quantity';
 
 function errorAt(text: string): number | undefined {
   try {
@@ -191,5 +197,24 @@ describe('round trips (property)', () => {
       }),
       { numRuns: 2000 },
     );
+  });
+});
+
+describe('parseMixedNumber', () => {
+  it('reads the whole, decimal, fraction and mixed numbers a model scale is written with', () => {
+    // Values by hand: 1 1/2 = 3/2, 3/4 = 0.75, 1/3 as the double nearest it.
+    for (const t of ['1½', '1 ½', '1 1/2', '1-1/2', '1 - 1/2', '1.5']) {
+      expect(parseMixedNumber(t)).toBe(1.5);
+    }
+    expect(parseMixedNumber('½')).toBe(0.5);
+    expect(parseMixedNumber('3/4')).toBe(0.75);
+    expect(parseMixedNumber('⅓')).toBe(1 / 3);
+    expect(parseMixedNumber('11.3')).toBe(11.3);
+  });
+
+  it('answers undefined for a unit, a sign, a zero denominator or other text', () => {
+    for (const t of ['1/2 in', '-1', '3/0', '', 'one', '1 1/2 1']) {
+      expect(parseMixedNumber(t)).toBeUndefined();
+    }
   });
 });
