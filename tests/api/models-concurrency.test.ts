@@ -3,9 +3,11 @@
 import type { Server } from 'node:http';
 import type { AddressInfo } from 'node:net';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { storedModel, type StoredModel } from '@shared/api';
 import { modelSchema, type FairsheetModelInput } from '@shared/engine';
 import { upsertMembership } from '../../server/db/projects';
 import { createTestApp, type TestApp } from '../helpers/app';
+import { answerOf } from '../helpers/contract';
 import { HttpClient } from '../helpers/server-process';
 
 const editorCount = 8;
@@ -16,11 +18,6 @@ let server: Server;
 let owner: HttpClient;
 let editors: HttpClient[];
 let projectId: string;
-
-interface StoredModel {
-  revision: number;
-  model: FairsheetModelInput;
-}
 
 beforeAll(async () => {
   t = await createTestApp();
@@ -55,7 +52,7 @@ const url = (path: string) => `/api/projects/${projectId}${path}`;
 async function current(c: HttpClient): Promise<StoredModel> {
   const res = await c.request<StoredModel>('GET', url('/model'));
   expect(res.status).toBe(200);
-  return res.body;
+  return answerOf(storedModel, res);
 }
 
 /** The model with one more stated dimension, named after the editor and the round. */
@@ -87,7 +84,8 @@ describe('concurrent saves of one model', () => {
 
     await Promise.all(
       editors.map(async (c, i) => {
-        let seen = await current(c);
+        // The revision this editor last saw, and the model it holds (as it wrote it, or as read).
+        let seen: { revision: number; model: FairsheetModelInput } = await current(c);
         for (let round = 0; round < rounds;) {
           const model = withDimension(seen.model, `e${i}_r${round}`, 1 + i + round / 100);
           const res = await c.request<{ revision?: number; error?: { details?: unknown } }>(
