@@ -14,7 +14,7 @@
  */
 
 import { MM_PER_FT, MM_PER_IN } from './length';
-import { factorDense } from './numeric';
+import { factorDense, TOLERANCES } from './numeric';
 import { parseMixedNumber } from './quantity';
 
 /** A point on the sheet in pixels (x right, y down). */
@@ -203,7 +203,7 @@ export function perAxisScale(
   const det = hx * vy - hy * vx;
   // The two references must run in clearly different directions; parallel ones say nothing
   // about the other axis.
-  if (Math.abs(det) <= 1e-9 * (hx + hy) * (vx + vy)) {
+  if (Math.abs(det) <= TOLERANCES.parallelReferences * (hx + hy) * (vx + vy)) {
     throw new CalibrationError(
       'degenerate-axes',
       'The horizontal and vertical references run the same way; pick one along each axis',
@@ -294,7 +294,7 @@ function applyMat(m: Mat3, p: SheetPoint | PlanePoint): { x: number; y: number; 
 }
 
 // In normalised coordinates (mean distance √2), a triangle this small is a straight line.
-const COLLINEAR_AREA = 1e-6;
+const COLLINEAR_AREA = TOLERANCES.collinearArea;
 
 function findCollinearTriple(points: readonly { x: number; y: number }[]): number[] | undefined {
   for (let i = 0; i < points.length; i++)
@@ -420,7 +420,7 @@ export function fitHomography(
   });
   let h: number[] | undefined;
   if (controls.length === 4) {
-    h = solveDense(rows, rhs, 1e-12);
+    h = solveDense(rows, rhs, TOLERANCES.singularPivot);
   } else {
     // Normal equations AᵀA·h = Aᵀb: squares the condition number, which the normalisation
     // above keeps small (order 10 for sensible point spreads).
@@ -428,7 +428,7 @@ export function fitHomography(
       Array.from({ length: 8 }, (_, j) => rows.reduce((s, r) => s + r[i] * r[j], 0)),
     );
     const atb = Array.from({ length: 8 }, (_, i) => rows.reduce((s, r, k) => s + r[i] * rhs[k], 0));
-    h = solveDense(ata, atb, 1e-10);
+    h = solveDense(ata, atb, TOLERANCES.normalEquationsPivot);
   }
   if (!h) {
     throw new CalibrationError(
@@ -476,7 +476,11 @@ function applyChecked(m: Mat3, p: SheetPoint | PlanePoint): PlanePoint {
   assertFinitePoint(p, 'Point');
   const q = applyMat(m, p);
   const scale = Math.abs(m[6] * p.x) + Math.abs(m[7] * p.y) + Math.abs(m[8]);
-  if (Math.abs(q.w) <= 1e-12 * scale || !Number.isFinite(q.x) || !Number.isFinite(q.y)) {
+  if (
+    Math.abs(q.w) <= TOLERANCES.horizonW * scale ||
+    !Number.isFinite(q.x) ||
+    !Number.isFinite(q.y)
+  ) {
     throw new CalibrationError('point-at-infinity', 'This point maps to the horizon line', {
       input: `${p.x}, ${p.y}`,
     });
@@ -729,7 +733,7 @@ export function measureBetweenPins(
   let calibrationVar = 0;
   for (const input of calibrationInputs(cal)) {
     if (input.sigma === 0) continue;
-    const h = input.sigma * 1e-3;
+    const h = input.sigma * TOLERANCES.finiteDifferenceStep;
     const slope =
       (planeDistance(input.rebuild(h), a, b) - planeDistance(input.rebuild(-h), a, b)) / (2 * h);
     calibrationVar += (slope * input.sigma) ** 2;

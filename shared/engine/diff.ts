@@ -3,6 +3,7 @@
  * the comparison of two revisions, and the "someone else saved first" view.
  */
 import type { FairsheetModelInput } from './model';
+import { TOLERANCES } from './numeric';
 import type { SolveResult } from './result';
 
 type DimensionInput = FairsheetModelInput['dimensions'][number];
@@ -197,7 +198,7 @@ export function summariseDiff(diff: ModelDiff, limit = 4): string {
 export function movedValues(
   before: SolveResult,
   after: SolveResult,
-  tolerance = 1e-9,
+  tolerance: number = TOLERANCES.moved,
 ): ValueMove[] {
   const names = [...new Set([...Object.keys(before.values), ...Object.keys(after.values)])].sort();
   const moves: ValueMove[] = [];

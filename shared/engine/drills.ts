@@ -18,6 +18,7 @@
  */
 
 import { MM_PER_IN } from './length';
+import { TOLERANCES } from './numeric';
 
 /** The family a stock drill belongs to. */
 export type DrillFamily = 'metric' | 'number' | 'letter' | 'fractional';
@@ -161,7 +162,7 @@ export function drillSet(name: DrillSetName): readonly StockDrill[] {
 
 // A stock drill within a nanometre of the wanted size counts as that size, so 'atLeast 5.1'
 // still returns the 5.1 mm drill despite binary rounding of 5.1.
-const SAME_SIZE_MM = 1e-6;
+const SAME_SIZE_MM = TOLERANCES.sameTableSize;
 
 /**
  * The stock drill in `set` closest to `mm`; `atLeast` never goes under the size (clearance
@@ -218,7 +219,7 @@ export function drillByLabel(label: string): StockDrill | undefined {
   const frac = /^(\d+)\/(\d+)\s*(?:"|in|inch)?$/i.exec(text);
   if (frac) {
     const inch = Number(frac[1]) / Number(frac[2]);
-    return FRACTIONAL_DRILLS.find((d) => Math.abs(d.inch - inch) < 1e-9);
+    return FRACTIONAL_DRILLS.find((d) => Math.abs(d.inch - inch) < TOLERANCES.sameComputedSize);
   }
   if (/^1\s*(?:"|in|inch)$/i.test(text)) return FRACTIONAL_DRILLS[FRACTIONAL_DRILLS.length - 1];
   const metric = /^(\d+(?:\.\d+)?)\s*mm$/i.exec(text);

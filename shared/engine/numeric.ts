@@ -11,6 +11,87 @@
 export const NUMERIC_TOLERANCE = { relative: 1e-9, absolute: 1e-12 } as const;
 
 /**
+ * Every other small number the engine judges by, named with why it has that size. Lengths are
+ * in the model unit unless the name says otherwise; ratios are of the quantity named.
+ */
+export const TOLERANCES = Object.freeze({
+  /**
+   * LU pivots at or below this fraction of the matrix's largest entry count as zero: the
+   * matrix is singular. Double precision keeps about 16 digits; a pivot 12 orders down has
+   * lost all but four of them.
+   */
+  singularPivot: 1e-12,
+  /**
+   * The same cut for normal equations AᵀA·h = Aᵀb (calibration by more than four points):
+   * forming AᵀA squares the condition number, so a pivot is judged two orders less strictly.
+   */
+  normalEquationsPivot: 1e-10,
+  /**
+   * Powers of length and angle in a unit check: they are small integers and halves (a square
+   * root), so any difference at all beyond rounding is a different unit.
+   */
+  unitPower: 1e-12,
+  /**
+   * Positions within a millionth of the model unit (a nanometre, or a millionth of an inch)
+   * are the same line of a readout's table: far below what a readout shows (0.001 mm,
+   * 0.0001 in) and far above the rounding of a solved position.
+   */
+  sameLine: 1e-6,
+  /**
+   * A stock drill, or a thread's size in inches, within a millionth of the wanted size is that
+   * size: table values are written to at most four places, so binary rounding (5.1 mm is not
+   * 5.1 exactly) never reaches this.
+   */
+  sameTableSize: 1e-6,
+  /**
+   * Sizes computed from a written fraction or pitch (7/64 in, 0.35 mm) against the table's own
+   * value of the same size: both are one or two roundings from the same decimal.
+   */
+  sameComputedSize: 1e-9,
+  /**
+   * Two calibration references run the same way when the cross product of their directions is
+   * below this fraction of the product of their lengths (squared): the engine's relative
+   * tolerance, directions a few hundred-thousandths of a radian apart.
+   */
+  parallelReferences: 1e-9,
+  /**
+   * In normalised coordinates (mean distance √2 from the centroid), three control points
+   * spanning a triangle smaller than this are in one line: they cannot fix a perspective.
+   */
+  collinearArea: 1e-6,
+  /**
+   * A point whose homogeneous w is below this fraction of its terms maps to the horizon line:
+   * the perspective sends it to infinity.
+   */
+  horizonW: 1e-12,
+  /**
+   * Central differences of a measurement by a calibration input move that input by this
+   * fraction of its own ± (small enough for the first-order slope, large enough to stay well
+   * above rounding).
+   */
+  finiteDifferenceStep: 1e-3,
+  /**
+   * A rank-deficient weight matrix of suspects is made solvable by adding this fraction of its
+   * trace to its diagonal: a ridge too small to move any well-determined correction.
+   */
+  ridge: 1e-9,
+  /**
+   * A solved value has moved between two solves when it differs by more than this (model
+   * unit): a billionth of an inch, far below any place shown, above the noise of a re-solve.
+   */
+  moved: 1e-9,
+  /** Newton with a singular Jacobian nudges each unknown by this fraction of (|value| + 1). */
+  newtonNudge: 1e-3,
+  /** Damped Newton halves its step down to this fraction of the full step, then gives up. */
+  newtonMinStep: 1e-8,
+  /**
+   * A damped step is taken when the residual norm falls by at least this fraction of the step
+   * length (the Armijo condition, in its usual size).
+   */
+  newtonSufficientDecrease: 1e-4,
+});
+
+/**
  * Whether two numbers agree within the engine's tolerance. `scale` is the magnitude the
  * difference is judged against (defaults to the larger of |a| and |b|), so a residual that is
  * the small difference of large terms can be judged against those terms.
@@ -33,7 +114,7 @@ export interface LinearFactor {
 }
 
 /** Pivots below this fraction of the largest entry count as zero: the matrix is singular. */
-const SINGULAR_RATIO = 1e-12;
+const SINGULAR_RATIO: number = TOLERANCES.singularPivot;
 
 /**
  * LU factorisation with partial pivoting of a dense n×n matrix (row-major). Returns null when

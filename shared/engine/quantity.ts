@@ -8,6 +8,7 @@
  * division, so 1/8 in gives 3.175 mm and 0.015 in gives 0.381 mm, correctly rounded.
  */
 import { MM_PER_IN, nearestFraction, type ModelUnit } from './length';
+import { NUMERIC_TOLERANCE } from './numeric';
 
 export type LengthUnit = 'in' | 'ft' | 'thou' | 'mm' | 'cm';
 export type QuantityUnit = LengthUnit | 'deg';
@@ -448,7 +449,7 @@ export function suggestNominal(
   for (let den = 2; den <= maxDenominator; den *= 2) {
     const f = Math.round(inches * den) / den;
     const deltaInFamily = isMm ? f * MM_PER_IN - written : f - inches;
-    if (f !== inches && Math.abs(deltaInFamily) <= step * (1 + 1e-9)) {
+    if (f !== inches && Math.abs(deltaInFamily) <= step * (1 + NUMERIC_TOLERANCE.relative)) {
       const text = nearestFraction(f, den).text;
       return { text, inches: f, mm: (f * 254) / 10, delta: deltaInFamily };
     }

@@ -17,7 +17,7 @@
  * correction is the smallest multiple of its own tolerance comes first. An as-built value is
  * a measurement of the real part: it is weighed but never a suspect.
  */
-import { factorDense, nearlyEqual } from './numeric';
+import { factorDense, nearlyEqual, TOLERANCES } from './numeric';
 import type { Check, Contradiction, Suspect } from './result';
 
 export interface RedundantRelation {
@@ -163,7 +163,7 @@ function rankSuspects(
   if (trace === 0) for (let i = 0; i < k; i++) Q[i * k + i] = 1;
   let factor = factorDense(k, Q);
   if (!factor) {
-    for (let i = 0; i < k; i++) Q[i * k + i] += 1e-9 * (trace || 1);
+    for (let i = 0; i < k; i++) Q[i * k + i] += TOLERANCES.ridge * (trace || 1);
     factor = factorDense(k, Q);
   }
   const out = new Map<number, Suspect>();

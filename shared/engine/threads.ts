@@ -16,6 +16,7 @@
  */
 import { MM_PER_IN } from './length';
 import { drillByLabel, nearestDrill, type DrillSetName, type StockDrill } from './drills';
+import { TOLERANCES } from './numeric';
 
 export type ThreadSeries = 'BA' | 'ISO metric coarse' | 'ISO metric fine' | 'UNC' | 'UNF' | 'ME';
 
@@ -289,7 +290,7 @@ export function threadCatalogue(series?: ThreadSeries): readonly ThreadSpec[] {
 // ---------------------------------------------------------------------------------------------
 // Designation parsing
 
-const SAME_IN = 1e-6;
+const SAME_IN = TOLERANCES.sameTableSize;
 
 function parseInchSize(text: string): number | undefined {
   const mixed = /^(\d+) (\d+)\/(\d+)$/.exec(text);
@@ -336,7 +337,7 @@ export function threadByDesignation(text: string): ThreadSpec {
     }
     if (metric[2] === undefined) return coarse;
     const p = Number(metric[2]);
-    const match = sizes.find((t) => Math.abs(t.pitchMm - p) < 1e-9);
+    const match = sizes.find((t) => Math.abs(t.pitchMm - p) < TOLERANCES.sameComputedSize);
     return (
       match ??
       fail(

@@ -4,6 +4,7 @@
  * against each other, and constant subtrees are folded.
  */
 import { MM_PER_IN, type ModelUnit } from '../length';
+import { TOLERANCES } from '../numeric';
 import { applyFn, evalBin } from './arithmetic';
 import { BoundRelation, type CompiledRelation } from './compile';
 import { ExpressionError } from './error';
@@ -49,7 +50,8 @@ const PLAIN: UnitDim = Object.freeze({ L: 0, A: 0 });
 /** Lengths must match in power; an angle is a tagged plain number, so it matches one. */
 function compatible(x: UnitDim | null, y: UnitDim | null): boolean {
   if (!x || !y) return true;
-  return Math.abs(x.L - y.L) < 1e-12 && (Math.abs(x.A - y.A) < 1e-12 || x.A === 0 || y.A === 0);
+  const tol = TOLERANCES.unitPower;
+  return Math.abs(x.L - y.L) < tol && (Math.abs(x.A - y.A) < tol || x.A === 0 || y.A === 0);
 }
 
 function merge(x: UnitDim | null, y: UnitDim | null): UnitDim | null {

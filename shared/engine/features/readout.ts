@@ -1,16 +1,17 @@
 /** The order a digital readout is worked in. */
+import { TOLERANCES } from '../numeric';
 import type { FeatureRow } from './types';
 
 /**
  * Rows go in the order a digital readout is best worked from one direction: Y ascending, then
  * X ascending along each Y (every move in +X along a line, every new line a move in +Y), so
  * each axis is always approached the same way and backlash and table lift stay on one side.
- * Positions equal within 1e-6 of the model unit count as the same line. Unsolved positions last.
+ * Positions equal within `TOLERANCES.sameLine` of the model unit count as the same line. Unsolved positions last.
  */
 export const READOUT_ORDER =
   'Rows run by Y ascending, then X ascending: approach every position from −X and −Y.';
 
-const SAME_LINE = 1e-6;
+const SAME_LINE = TOLERANCES.sameLine;
 
 /**
  * Sorts rows into readout order (see `READOUT_ORDER`); a new array.

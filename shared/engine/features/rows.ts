@@ -4,6 +4,7 @@
  * sizes.
  */
 import type { DimensionKind } from '../model';
+import { NUMERIC_TOLERANCE } from '../numeric';
 import { materialSpeeds } from '../shop-math';
 import type { Expansion, PendingFeature, Slot } from './expand';
 import type { SolvedExpansion } from './solve';
@@ -42,7 +43,7 @@ export class LengthReader {
     let provenance: Provenance = slot.direct ?? 'derived';
     let value = v?.value ?? null;
     if (slot.literal && value !== null) {
-      provenance = Math.abs(value) < 1e-12 ? 'datum' : 'assumed';
+      provenance = Math.abs(value) < NUMERIC_TOLERANCE.absolute ? 'datum' : 'assumed';
       if (provenance === 'assumed') kinds.add('assumed');
       if (provenance === 'datum') value = 0;
     }

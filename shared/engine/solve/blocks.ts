@@ -6,7 +6,7 @@
  */
 import type { CompiledRelation } from '../expression';
 import { linearizeBlock } from '../jacobian';
-import { factorRows, maxAbs, nearlyEqual, type SparseRow } from '../numeric';
+import { factorRows, maxAbs, nearlyEqual, TOLERANCES, type SparseRow } from '../numeric';
 import type { EngineError } from '../result';
 import { analyseStructure, type StructureResult } from '../structure';
 import type { SolveOptions } from './options';
@@ -193,17 +193,21 @@ function solveBlock(
     if (!d) {
       // Singular Jacobian: nudge the unknowns off the singular point and try again.
       for (let c = 0; c < n; c++)
-        x[unknowns[c]] += 1e-3 * (Math.abs(x[unknowns[c]]) + 1) * (c % 2 ? -1 : 1);
+        x[unknowns[c]] +=
+          TOLERANCES.newtonNudge * (Math.abs(x[unknowns[c]]) + 1) * (c % 2 ? -1 : 1);
       continue;
     }
     const base = unknowns.map((u) => x[u]);
     let lambda = 1;
     let accepted = false;
-    while (lambda > 1e-8) {
+    while (lambda > TOLERANCES.newtonMinStep) {
       for (let c = 0; c < n; c++) x[unknowns[c]] = base[c] + lambda * d[c];
       residuals(rels, x, trial);
       const tn = norm2(trial);
-      if (Number.isFinite(tn) && tn < (1 - 1e-4 * lambda) * lastNorm) {
+      if (
+        Number.isFinite(tn) &&
+        tn < (1 - TOLERANCES.newtonSufficientDecrease * lambda) * lastNorm
+      ) {
         accepted = true;
         break;
       }
