@@ -177,6 +177,34 @@ describe('the answers the client reads match their schemas in shared/api', () =>
     expect(accepted).toEqual({ projectId, role: 'viewer' });
   });
 
+  it('a project imported from a bundle: people recorded by name only (an empty id) match too', async () => {
+    const bundle = await builder
+      .get(url('/export'))
+      .buffer(true)
+      .parse((res, done) => {
+        const chunks: Buffer[] = [];
+        res.on('data', (c: Buffer) => chunks.push(c));
+        res.on('end', () => done(null, Buffer.concat(chunks)));
+      })
+      .expect(200);
+    const restorer = new TestClient(t.app);
+    await restorer.register('contract.restorer@example.com');
+    const imported = await restorer.agent
+      .post('/api/projects/import')
+      .set('X-CSRF-Token', restorer.csrf)
+      .attach('file', bundle.body as Buffer, 'kestrel.fairsheet.zip')
+      .expect(201);
+    const at = (path: string) => `/api/projects/${imported.body.id}${path}`;
+    const checks = answerOf(checkList, await restorer.get(at('/checks')).expect(200));
+    // The demo's two checks, by its checker, who has no account behind the imported rows.
+    expect(checks.checks.map((c) => c.checkedBy.id)).toEqual(['', '']);
+    answerOf(commentList, await restorer.get(at('/comments')).expect(200));
+    answerOf(correctionList, await restorer.get(at('/corrections')).expect(200));
+    answerOf(activityList, await restorer.get(at('/activity')).expect(200));
+    answerOf(historyList, await restorer.get(at('/history')).expect(200));
+    answerOf(storedModel, await restorer.get(at('/model')).expect(200));
+  });
+
   it('POST /api/auth/password-reset answers words only', async () => {
     const anon = new TestClient(t.app);
     await anon.refresh();
