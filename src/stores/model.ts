@@ -58,6 +58,8 @@ export const useModelStore = defineStore('model', () => {
   });
   const result = shallowRef<SolveResult | null>(null);
   const lastSolveMs = ref(0);
+  /** Solves so far: a test waits on this to know a keystroke's solve has landed. */
+  const solves = ref(0);
   const selected = ref<string | null>(null);
   const edits = ref(0);
   const updatedBy = ref<string | null>(null);
@@ -104,6 +106,7 @@ export const useModelStore = defineStore('model', () => {
     // The raw object: going through Vue's reactive proxies would cost more than the solve.
     result.value = solveModel(toRaw(model.value), { timeLimitMs: 500 });
     lastSolveMs.value = performance.now() - start;
+    solves.value++;
   }
 
   function scheduleSolve() {
@@ -237,6 +240,7 @@ export const useModelStore = defineStore('model', () => {
     model,
     result,
     lastSolveMs,
+    solves,
     selected,
     updatedBy,
     edits,
