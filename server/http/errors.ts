@@ -1,5 +1,6 @@
 import type { ErrorRequestHandler } from 'express';
 import type { ErrorCode } from '@shared/api';
+import { EngineError } from '@shared/engine/errors';
 
 /** The one error family: a code, a message for people, an HTTP status and optional details. */
 export class AppError extends Error {
@@ -117,6 +118,19 @@ export function errorHandler(options: { production: boolean }): ErrorRequestHand
         .json({
           error: { code: err.code, message: err.message, details: err.details },
         });
+      return;
+    }
+    // Any engine refusal a route did not map itself (a quantity, relation, calibration, thread,
+    // drill or shop figure that cannot be read) is the request's fault: 400 with the engine's
+    // code and where the fault is.
+    if (err instanceof EngineError) {
+      res.status(400).json({
+        error: {
+          code: 'bad_request',
+          message: err.message,
+          details: { engineCode: err.code, ...err.location },
+        },
+      });
       return;
     }
     // body-parser and friends set `status`/`type` on their errors.

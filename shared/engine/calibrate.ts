@@ -14,6 +14,7 @@
  */
 
 import { MM_PER_FT, MM_PER_IN } from './length';
+import { EngineError } from './errors';
 import { factorDense, TOLERANCES } from './numeric';
 import { parseMixedNumber } from './quantity';
 
@@ -58,14 +59,14 @@ export type CalibrationErrorCode =
   | 'bad-scale';
 
 /** A calibration question that cannot be answered; `details` says which input is at fault. */
-export class CalibrationError extends Error {
+export class CalibrationError extends EngineError<CalibrationErrorCode> {
   override readonly name = 'CalibrationError';
   constructor(
-    readonly code: CalibrationErrorCode,
+    code: CalibrationErrorCode,
     message: string,
     readonly details: { readonly points?: readonly number[]; readonly input?: string } = {},
   ) {
-    super(message);
+    super(code, message, details);
   }
 }
 

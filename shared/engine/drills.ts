@@ -18,6 +18,7 @@
  */
 
 import { MM_PER_IN } from './length';
+import { EngineError } from './errors';
 import { TOLERANCES } from './numeric';
 
 /** The family a stock drill belongs to. */
@@ -41,14 +42,15 @@ export type DrillPickMode = 'nearest' | 'atLeast' | 'atMost';
 export type DrillErrorCode = 'invalid-size' | 'no-drill-in-range' | 'unknown-set';
 
 /** A drill look-up that cannot be answered; `details` says what was asked. */
-export class DrillError extends Error {
+export class DrillError extends EngineError<DrillErrorCode> {
   override readonly name = 'DrillError';
   constructor(
-    readonly code: DrillErrorCode,
+    code: DrillErrorCode,
     message: string,
     readonly details: { readonly mm?: number; readonly set?: string; readonly mode?: string } = {},
   ) {
-    super(message);
+    // The size asked for is the input at fault.
+    super(code, message, details.mm === undefined ? {} : { input: `${details.mm} mm` });
   }
 }
 

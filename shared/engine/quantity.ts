@@ -8,6 +8,7 @@
  * division, so 1/8 in gives 3.175 mm and 0.015 in gives 0.381 mm, correctly rounded.
  */
 import { MM_PER_IN, nearestFraction, type ModelUnit } from './length';
+import { EngineError } from './errors';
 import { NUMERIC_TOLERANCE } from './numeric';
 
 export type LengthUnit = 'in' | 'ft' | 'thou' | 'mm' | 'cm';
@@ -33,12 +34,12 @@ export interface Quantity {
 }
 
 /** A quantity that cannot be read, with the character offset where reading failed. */
-export class QuantityError extends Error {
+export class QuantityError extends EngineError<'bad-quantity'> {
   constructor(
     message: string,
     readonly at: number,
   ) {
-    super(message);
+    super('bad-quantity', message, { at });
     this.name = 'QuantityError';
   }
 }

@@ -5,18 +5,19 @@
  * Positions are in the part's datum frame: x right, y up, angles counter-clockwise from +X in
  * degrees, as a drawing and a DRO's bolt-circle function use them.
  */
+import { EngineError } from './errors';
 
 export type ShopMathErrorCode = 'invalid-input' | 'unknown-material';
 
 /** A shop calculation that cannot be answered; `details.input` names the bad argument. */
-export class ShopMathError extends Error {
+export class ShopMathError extends EngineError<ShopMathErrorCode> {
   override readonly name = 'ShopMathError';
   constructor(
-    readonly code: ShopMathErrorCode,
+    code: ShopMathErrorCode,
     message: string,
     readonly details: { readonly input: string } = { input: '' },
   ) {
-    super(message);
+    super(code, message, details.input ? { input: details.input } : {});
   }
 }
 

@@ -16,6 +16,7 @@
  */
 import { MM_PER_IN } from './length';
 import { drillByLabel, nearestDrill, type DrillSetName, type StockDrill } from './drills';
+import { EngineError } from './errors';
 import { TOLERANCES } from './numeric';
 
 export type ThreadSeries = 'BA' | 'ISO metric coarse' | 'ISO metric fine' | 'UNC' | 'UNF' | 'ME';
@@ -48,14 +49,14 @@ export type ThreadErrorCode =
   | 'invalid-percent';
 
 /** A thread question that cannot be answered; `details.input` is what was asked. */
-export class ThreadError extends Error {
+export class ThreadError extends EngineError<ThreadErrorCode> {
   override readonly name = 'ThreadError';
   constructor(
-    readonly code: ThreadErrorCode,
+    code: ThreadErrorCode,
     message: string,
     readonly details: { readonly input: string; readonly known?: readonly string[] },
   ) {
-    super(message);
+    super(code, message, { input: details.input });
   }
 }
 

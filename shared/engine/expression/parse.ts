@@ -249,7 +249,7 @@ export function clearRelationCache(): void {
  * offending token. Results are cached by text.
  *
  * @example parseRelation('overall = boss + slot').names // ['overall', 'boss', 'slot']
- * @example parseRelation('x = a.b') // throws ExpressionError { code: 'forbidden', at: 5 }
+ * @example parseRelation('x = a[1]') // throws ExpressionError { code: 'forbidden', at: 5 }
  */
 export function parseRelation(text: string): ParsedRelation {
   // Before the cache: a refused text is not kept (a megabyte each would fill it).

@@ -11,6 +11,7 @@ import {
   isStorageUnavailable,
 } from '../../../../server/http/errors';
 import { createS3Storage } from '../../../../server/storage';
+import { parseQuantity } from '../../../../shared/engine/quantity';
 import { freePort } from '../../../helpers/net';
 
 /** The error node-postgres raises when connecting to `port` fails. */
@@ -173,6 +174,23 @@ describe('errorHandler', () => {
     expect(escape.status).toBe(400);
     expect(escape.body.error.code).toBe('bad_request');
     expect(escape.text).not.toMatch(/at .*\.(ts|js)/);
+  });
+
+  it('an engine error a route did not map answers 400 bad_request with its code and location', async () => {
+    const spy = vi.spyOn(console, 'error').mockImplementation(() => {});
+    const app = express();
+    app.get('/quantity', () => {
+      parseQuantity('3/0'); // a zero denominator, refused at offset 2
+    });
+    app.use(errorHandler({ production: true }));
+    const res = await request(app).get('/quantity');
+    expect(res.status).toBe(400);
+    expect(res.body.error).toEqual({
+      code: 'bad_request',
+      message: 'a fraction needs a whole denominator greater than 0',
+      details: { engineCode: 'bad-quantity', at: 2 },
+    });
+    expect(spy).not.toHaveBeenCalled();
   });
 
   it('an error after the answer was sent leaves that answer whole', async () => {
