@@ -1,6 +1,9 @@
 /**
  * Screw-thread tables, tap drills and clearance drills.
  *
+ * Over 600 lines because most of it is tables (each series' sizes and pitches with their
+ * sources); the rules that read them are short.
+ *
  * Series held here, each with its published source (tags as in the team's check-values
  * reference, which names the pages):
  * - BA 0–10 (BS 93): sizes computed from the defining formulas p = 0.9ⁿ and d = 6p^1.2, both
