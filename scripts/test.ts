@@ -16,8 +16,16 @@ function step(title: string, command: string, args: string[]): boolean {
 const extra = process.argv.slice(2);
 let ok = true;
 if (!extra.length) {
-  ok = step('lint (eslint)', bin('eslint'), ['.']) && ok;
-  ok = step('type check (vue-tsc)', bin('vue-tsc'), ['--noEmit', '-p', 'tsconfig.json']) && ok;
+  ok = step('lint (eslint)', bin('eslint'), ['--max-warnings', '0', '.']) && ok;
+  // One check per runtime (see tsconfig.json): the browser, Node.js, code for either, the tests.
+  for (const runtime of ['browser', 'node', 'shared', 'tests']) {
+    ok =
+      step(`type check, ${runtime} (vue-tsc)`, bin('vue-tsc'), [
+        '--noEmit',
+        '-p',
+        `tsconfig.${runtime}.json`,
+      ]) && ok;
+  }
 }
 
 const resultsDir = path.join(projectRoot, 'test-results');
