@@ -33,7 +33,9 @@ function codeOf(fn: () => unknown): CalibrationErrorCode | undefined {
 }
 
 const pt = (x: number, y: number): SheetPoint => ({ x, y });
-const controls = (rows: readonly (readonly number[])[]): ControlPoint[] =>
+/** A control point as a row: sheet pixels (x, y), then plane millimetres (u, v). */
+type Row = readonly [x: number, y: number, u: number, v: number];
+const controls = (rows: readonly Row[]): ControlPoint[] =>
   rows.map(([x, y, u, v]) => ({ px: { x, y }, mm: { x: u, y: v } }));
 
 /** Seeded PRNG (mulberry32) and Box–Muller normals, so noisy cases are the same every run. */
@@ -50,7 +52,7 @@ function normals(seed: number) {
 }
 
 /** Oracle: the unnormalised 8×8 DLT system solved by ml-matrix (LU), h33 = 1. */
-function oracleHomography(rows: readonly (readonly number[])[]): number[] {
+function oracleHomography(rows: readonly Row[]): number[] {
   const a: number[][] = [];
   const b: number[] = [];
   for (const [x, y, u, v] of rows) {
@@ -63,18 +65,18 @@ function oracleHomography(rows: readonly (readonly number[])[]): number[] {
 }
 
 function applyH(h: readonly number[], x: number, y: number): [number, number] {
-  const w = h[6] * x + h[7] * y + h[8];
-  return [(h[0] * x + h[1] * y + h[2]) / w, (h[3] * x + h[4] * y + h[5]) / w];
+  const w = h[6]! * x + h[7]! * y + h[8]!;
+  return [(h[0]! * x + h[1]! * y + h[2]!) / w, (h[3]! * x + h[4]! * y + h[5]!) / w];
 }
 
 // check-values §8.1 [published] README of npm perspective-transform 1.1.3 (jlouthan).
 const README_SRC = [158, 64, 494, 69, 495, 404, 158, 404];
 const README_DST = [100, 500, 152, 564, 148, 604, 100, 560];
-const README_ROWS = [0, 1, 2, 3].map((i) => [
-  README_SRC[2 * i],
-  README_SRC[2 * i + 1],
-  README_DST[2 * i],
-  README_DST[2 * i + 1],
+const README_ROWS = [0, 1, 2, 3].map((i): Row => [
+  README_SRC[2 * i]!,
+  README_SRC[2 * i + 1]!,
+  README_DST[2 * i]!,
+  README_DST[2 * i + 1]!,
 ]);
 const README_COEFFS = [
   0.3869749384, 0.0426817448, 59.2427947969, 0.9589610618, 0.4562821238, 434.8644299345,
@@ -200,8 +202,8 @@ describe('fitHomography: published and analytic cases', () => {
     // The README prints 10 decimals; its inverse comes from its rounded H, so the larger
     // inverse entries (−821.81…) differ by a few 1e-9: compare relative to size.
     const near = (v: number, ref: number) => Math.abs(v - ref) < 1e-9 * (1 + Math.abs(ref));
-    cal.matrix.forEach((v, i) => expect(near(v, README_COEFFS[i])).toBe(true));
-    cal.inverse.forEach((v, i) => expect(near(v, README_COEFFS_INV[i])).toBe(true));
+    cal.matrix.forEach((v, i) => expect(near(v, README_COEFFS[i]!)).toBe(true));
+    cal.inverse.forEach((v, i) => expect(near(v, README_COEFFS_INV[i]!)).toBe(true));
   });
 
   it('maps (250, 120) to the README value within 1e-5 and the exact solve within 1e-7', () => {
@@ -227,7 +229,7 @@ describe('fitHomography: published and analytic cases', () => {
   it('agrees with the ml-matrix 8×8 solve of the unnormalised system', () => {
     const h = oracleHomography(README_ROWS);
     cal.matrix.forEach((v, i) =>
-      expect(Math.abs(v - h[i])).toBeLessThan(1e-9 * (1 + Math.abs(h[i]))),
+      expect(Math.abs(v - h[i]!)).toBeLessThan(1e-9 * (1 + Math.abs(h[i]!))),
     );
   });
 
@@ -246,7 +248,7 @@ describe('fitHomography: published and analytic cases', () => {
       ]),
     );
     const exact = [2, 1, 0, 0, 2, 0, 0, 1, 1]; // [computed] check-values §8.2
-    sq.matrix.forEach((v, i) => expect(Math.abs(v - exact[i])).toBeLessThan(1e-12));
+    sq.matrix.forEach((v, i) => expect(Math.abs(v - exact[i]!)).toBeLessThan(1e-12));
     // [computed] check-values §8.2: the centre goes to the diagonals' crossing.
     const cases: [number, number, number, number][] = [
       [0.5, 0.5, 1, 2 / 3],
@@ -286,10 +288,10 @@ describe('fitHomography: published and analytic cases', () => {
       (f(p.x, p.y + h).x - f(p.x, p.y - h).x) / (2 * h),
       (f(p.x, p.y + h).y - f(p.x, p.y - h).y) / (2 * h),
     ];
-    expect(Math.abs(j[0] - dx[0])).toBeLessThan(1e-8);
-    expect(Math.abs(j[2] - dx[1])).toBeLessThan(1e-8);
-    expect(Math.abs(j[1] - dy[0])).toBeLessThan(1e-8);
-    expect(Math.abs(j[3] - dy[1])).toBeLessThan(1e-8);
+    expect(Math.abs(j[0]! - dx[0]!)).toBeLessThan(1e-8);
+    expect(Math.abs(j[2]! - dx[1]!)).toBeLessThan(1e-8);
+    expect(Math.abs(j[1]! - dy[0]!)).toBeLessThan(1e-8);
+    expect(Math.abs(j[3]! - dy[1]!)).toBeLessThan(1e-8);
   });
 });
 
@@ -298,23 +300,23 @@ describe('fitHomography: property and least-squares cases', () => {
     const jitter = fc.double({ min: -150, max: 150, noNaN: true });
     fc.assert(
       fc.property(fc.array(jitter, { minLength: 16, maxLength: 16 }), (j) => {
-        const base = [
+        const base: [number, number][] = [
           [0, 0],
           [1000, 0],
           [1000, 800],
           [0, 800],
         ];
-        const plane = [
+        const plane: [number, number][] = [
           [0, 0],
           [300, 0],
           [300, 200],
           [0, 200],
         ];
-        const rows = base.map(([x, y], i) => [
-          x + j[4 * i],
-          y + j[4 * i + 1],
-          plane[i][0] + j[4 * i + 2] / 10,
-          plane[i][1] + j[4 * i + 3] / 10,
+        const rows = base.map(([x, y], i): Row => [
+          x + j[4 * i]!,
+          y + j[4 * i + 1]!,
+          plane[i]![0] + j[4 * i + 2]! / 10,
+          plane[i]![1] + j[4 * i + 3]! / 10,
         ]);
         const cal = fitHomography(controls(rows));
         const h = oracleHomography(rows);
@@ -322,7 +324,7 @@ describe('fitHomography: property and least-squares cases', () => {
           [500, 400],
           [100, 700],
           [900, 50],
-        ]) {
+        ] as const) {
           const ours = applyHomography(cal, pt(x, y));
           const theirs = applyH(h, x, y);
           expect(Math.abs(ours.x - theirs[0])).toBeLessThan(1e-6);
@@ -337,12 +339,12 @@ describe('fitHomography: property and least-squares cases', () => {
   const truth = fitHomography(controls(README_ROWS)).matrix;
   const grid: [number, number][] = [];
   for (let i = 0; i < 5; i++) for (let k = 0; k < 4; k++) grid.push([160 + 83 * i, 66 + 112 * k]);
-  const exactRows = grid.map(([x, y]) => [x, y, ...applyH(truth, x, y)]);
+  const exactRows = grid.map(([x, y]): Row => [x, y, ...applyH(truth, x, y)]);
 
   it('recovers the true mapping from more than four exact points', () => {
     const cal = fitHomography(controls(exactRows));
     cal.matrix.forEach((v, i) =>
-      expect(Math.abs(v - truth[i])).toBeLessThan(1e-9 * (1 + Math.abs(truth[i]))),
+      expect(Math.abs(v - truth[i]!)).toBeLessThan(1e-9 * (1 + Math.abs(truth[i]!))),
     );
     expect(cal.rmsResidualMm).toBeLessThan(1e-9);
     expect(cal.redundancy).toBe(2 * 20 - 8);
@@ -351,11 +353,16 @@ describe('fitHomography: property and least-squares cases', () => {
   it('fits noisy points by least squares, as ml-matrix QR does on the same normalised system', () => {
     const noise = normals(7);
     const sigma = 0.3;
-    const rows = exactRows.map(([x, y, u, v]) => [x, y, u + sigma * noise(), v + sigma * noise()]);
+    const rows = exactRows.map(([x, y, u, v]): Row => [
+      x,
+      y,
+      u + sigma * noise(),
+      v + sigma * noise(),
+    ]);
     const cal = fitHomography(controls(rows));
 
     // Oracle: Hartley-normalise both sides in the test, least squares by ml-matrix (QR), denormalise.
-    const norm = (pts: number[][]) => {
+    const norm = (pts: (readonly [number, number])[]) => {
       const cx = pts.reduce((s, p) => s + p[0], 0) / pts.length;
       const cy = pts.reduce((s, p) => s + p[1], 0) / pts.length;
       const md = pts.reduce((s, p) => s + Math.hypot(p[0] - cx, p[1] - cy), 0) / pts.length;
@@ -382,11 +389,11 @@ describe('fitHomography: property and least-squares cases', () => {
       .mmul(ts);
     const oracle = hm.to1DArray().map((v) => v / hm.get(2, 2));
     cal.matrix.forEach((v, i) =>
-      expect(Math.abs(v - oracle[i])).toBeLessThan(1e-8 * (1 + Math.abs(oracle[i]))),
+      expect(Math.abs(v - oracle[i]!)).toBeLessThan(1e-8 * (1 + Math.abs(oracle[i]!))),
     );
 
     // A second, different estimator: the homogeneous DLT by SVD (Hartley & Zisserman Alg. 4.2).
-    const a9 = a.map((r, i) => [...r.slice(0, 2), r[2], ...r.slice(3, 8), -b[i]]);
+    const a9 = a.map((r, i) => [...r.slice(0, 2), r[2]!, ...r.slice(3, 8), -b[i]!]);
     const svd = new SingularValueDecomposition(new Matrix(a9));
     const h9 = svd.rightSingularVectors.getColumn(8);
     const hs = inverse(td)
@@ -397,7 +404,7 @@ describe('fitHomography: property and least-squares cases', () => {
       [250, 120],
       [400, 300],
       [170, 390],
-    ]) {
+    ] as const) {
       const ours = applyHomography(cal, pt(x, y));
       const [su, sv] = applyH(hs, x, y);
       expect(Math.hypot(ours.x - su, ours.y - sv)).toBeLessThan(0.02);
@@ -508,8 +515,8 @@ describe('checkCalibration', () => {
       { a: pt(0, 100), b: pt(500, 100), lengthMm: 50.2 },
       { a: pt(0, 0), b: pt(0, 300), lengthMm: 29.9 },
     ]);
-    expect(result.checks[0].residualMm).toBeCloseTo(-0.2, 12);
-    expect(result.checks[1].residualMm).toBeCloseTo(0.1, 12);
+    expect(result.checks[0]!.residualMm).toBeCloseTo(-0.2, 12);
+    expect(result.checks[1]!.residualMm).toBeCloseTo(0.1, 12);
     expect(result.rmsMm).toBeCloseTo(Math.sqrt((0.04 + 0.01) / 2), 12); // [computed] 0.158114
     expect(result.maxAbsMm).toBeCloseTo(0.2, 12);
   });
@@ -628,7 +635,7 @@ describe('measureBetweenPins', () => {
 
   it('trusts residuals worse than the stated pick error', () => {
     const noise = normals(3);
-    const rows: number[][] = [];
+    const rows: Row[] = [];
     for (let i = 0; i < 4; i++)
       for (let k = 0; k < 4; k++)
         rows.push([100 * i, 100 * k, 10 * i + 1.5 * noise(), 10 * k + 1.5 * noise()]);
