@@ -7,10 +7,10 @@
  * - 1 in = 25.4 mm exactly (international yard and pound agreement, 1959; NIST SP 811 B.8).
  * - Shown to 4 places in inches and 3 in millimetres (0.0001 in ≈ 0.003 mm): the places a
  *   workshop reads off a micrometer or a digital readout in either unit (common practice).
- * - The one rounding rule: half away from zero on the decimal value the length stands for. A
- *   length that is exactly half way in decimal but a hair under it in binary (7.3125 in =
- *   185.7375 mm, held as 185.73749999…) rounds as the decimal does, to 185.738: the value is
- *   nudged by one part in 10¹² first, far below any workshop tolerance.
+ * - The one rounding rule: half away from zero on the decimal value the length stands for (its
+ *   15 significant digits). A length that is exactly half way in decimal but a hair under it in
+ *   binary (7.3125 in = 185.7375 mm, held as 185.73749999…) rounds as the decimal does, to
+ *   185.738.
  */
 
 /** Millimetres in one inch, exactly. */
@@ -45,8 +45,19 @@ export function convertLength(value: number, from: ModelUnit, to: ModelUnit): nu
  */
 export function roundTo(value: number, places: number): number {
   if (!Number.isFinite(value)) return value;
-  const f = 10 ** places;
-  const r = Math.round(Math.abs(value) * f * (1 + 1e-12)) / f;
+  if (value === 0) return 0;
+  // The decimal the double stands for: its 15 significant digits (every double reads back from
+  // them). 185.7375 is held as 185.73749999999999…, whose 15 digits are 185.737500000000.
+  const [mantissa = '0', exponent = '0'] = Math.abs(value).toExponential(14).split('e');
+  const digits = mantissa.replace('.', '');
+  const kept = Number(exponent) + 1 + places;
+  if (kept < 0) return 0;
+  if (kept >= digits.length)
+    return Number(`${Math.sign(value) < 0 ? '-' : ''}${digits}e${kept - digits.length - places}`);
+  // Half away from zero, decided on the decimal digits, so no product with 10^places can tip it.
+  let whole = BigInt(digits.slice(0, kept) || '0');
+  if (Number(digits[kept]) >= 5) whole += 1n;
+  const r = Number(`${whole}e-${places}`);
   return r === 0 ? 0 : Math.sign(value) * r;
 }
 

@@ -43,6 +43,18 @@ describe('lengths: conversion and the one rounding rule', () => {
     expect(lengthNumber(-1.5875, 'mm')).toBe('-1.588');
   });
 
+  it('decides a half on the decimal digits, at any size: large values are not tipped by scaling', () => {
+    // [computed] 99,999.49999945 to 6 places is 99,999.499999; scaled by 10⁶ with a relative
+    // nudge of 10⁻¹² it would move 0.1 of its last unit and round up to 99,999.5.
+    expect(roundTo(99999.49999945, 6)).toBe(99999.499999);
+    expect(roundTo(12345.0000004999, 6)).toBe(12345.0);
+    expect(roundTo(12345.0000005, 6)).toBe(12345.000001);
+    expect(roundTo(0.0006, 3)).toBe(0.001);
+    expect(roundTo(0.00004, 3)).toBe(0);
+    expect(roundTo(2.675, 2)).toBe(2.68);
+    expect(roundTo(123456.5, 0)).toBe(123457);
+  });
+
   it('rounds a tolerance up, so a written tolerance is never better than measured', () => {
     expect(roundUpTo(0.00501, 4)).toBe(0.0051);
     expect(roundUpTo(0.005, 4)).toBe(0.005);
