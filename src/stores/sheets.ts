@@ -495,8 +495,9 @@ export const useSheetsStore = defineStore('sheets', () => {
           (m.from === from && m.to === to) ||
           (m.from === to && m.to === from),
       );
-      const record = { id: at >= 0 ? e.measurements[at].id : newId('m'), from, to, dimension };
-      if (at >= 0) e.measurements[at] = record;
+      const found = e.measurements[at];
+      const record = { id: found ? found.id : newId('m'), from, to, dimension };
+      if (found) e.measurements[at] = record;
       else e.measurements.push(record);
     });
   }

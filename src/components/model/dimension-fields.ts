@@ -30,8 +30,9 @@ export function parseToleranceText(
       ? { tolPlus: pair[1], tolMinus: pair[2] }
       : { tolMinus: pair[1], tolPlus: pair[2] };
   }
-  const single = t.match(/^(?:±|\+\/-|\+-)?\s*(.+)$/);
-  if (single && !/[+-]/.test(single[1].replace(/^-/, 'x'))) return { tol: single[1].trim() };
+  const single = t.match(/^(?:±|\+\/-|\+-)?\s*(.+)$/)?.[1];
+  if (single !== undefined && !/[+-]/.test(single.replace(/^-/, 'x')))
+    return { tol: single.trim() };
   throw new Error('Write a tolerance as 0.005, ±0.005, or -0.002 +0.004');
 }
 
