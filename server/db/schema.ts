@@ -140,6 +140,8 @@ export const projectModels = pgTable('project_models', {
   revision: integer('revision').notNull().default(0),
   model: jsonb('model').notNull(),
   result: jsonb('result'),
+  /** The features evaluated with the same solve job (null for a revision saved before they were). */
+  features: jsonb('features'),
   updatedAt: timestamp('updated_at', { withTimezone: true }).notNull().defaultNow(),
   updatedBy: uuid('updated_by').references(() => users.id, { onDelete: 'set null' }),
 });

@@ -1,0 +1,1 @@
+ALTER TABLE "project_models" ADD COLUMN "features" jsonb;
