@@ -50,14 +50,14 @@ export function buildSheetCalibration(dto: SheetCalibrationDto): BuiltCalibratio
     case 'four-point': {
       const [w, h] = [dto.widthMm, dto.heightMm];
       // Corners in order TL, TR, BR, BL map to the rectangle's corners in millimetres.
-      const plane = [
-        { x: 0, y: 0 },
-        { x: w, y: 0 },
-        { x: w, y: h },
-        { x: 0, y: h },
-      ];
+      const [tl, tr, br, bl] = dto.corners;
       cal = fitHomography(
-        dto.corners.map((px, i) => ({ px, mm: plane[i] })),
+        [
+          { px: tl, mm: { x: 0, y: 0 } },
+          { px: tr, mm: { x: w, y: 0 } },
+          { px: br, mm: { x: w, y: h } },
+          { px: bl, mm: { x: 0, y: h } },
+        ],
         opts,
       );
       break;

@@ -197,8 +197,9 @@ export function putMeasurementRecord(
       (x.from === m.from && x.to === m.to) ||
       (x.from === m.to && x.to === m.from),
   );
+  const previous = at >= 0 ? measurements[at] : undefined;
   const record = {
-    id: at >= 0 ? measurements[at].id : newId(),
+    id: previous ? previous.id : newId(),
     from: m.from,
     to: m.to,
     dimension: m.dimension,

@@ -10,7 +10,8 @@ export const R2D = 180 / Math.PI;
 /** Sine of degrees, exact at multiples of 30° (so sin 30° is 0.5, cos 90° is 0). */
 export function sinDeg(d: number): number {
   const r = ((d % 360) + 360) % 360;
-  if (r % 30 === 0) return SIN30[r / 30];
+  // r is one of 0, 30, …, 330 here: r / 30 indexes one of the table's twelve entries.
+  if (r % 30 === 0) return SIN30[r / 30]!;
   return Math.sin(d * D2R);
 }
 /** Cosine of degrees, exact at multiples of 30°. */
@@ -30,11 +31,14 @@ export function tanDeg(d: number): number {
 }
 
 export function applyFn(fn: FunctionName, v: number[]): number {
+  // parse.ts checked the count against FUNCTIONS: every function has a first argument, atan2 a
+  // second.
+  const a = v[0]!;
   switch (fn) {
     case 'sqrt':
-      return Math.sqrt(v[0]);
+      return Math.sqrt(a);
     case 'abs':
-      return Math.abs(v[0]);
+      return Math.abs(a);
     // v has at most EXPRESSION_LIMITS.arguments entries (checked when read): the spreads below
     // stay far inside the engine's argument limit.
     case 'min':
@@ -44,19 +48,19 @@ export function applyFn(fn: FunctionName, v: number[]): number {
     case 'hypot':
       return Math.hypot(...v);
     case 'sin':
-      return sinDeg(v[0]);
+      return sinDeg(a);
     case 'cos':
-      return cosDeg(v[0]);
+      return cosDeg(a);
     case 'tan':
-      return tanDeg(v[0]);
+      return tanDeg(a);
     case 'asin':
-      return Math.asin(v[0]) * R2D;
+      return Math.asin(a) * R2D;
     case 'acos':
-      return Math.acos(v[0]) * R2D;
+      return Math.acos(a) * R2D;
     case 'atan':
-      return Math.atan(v[0]) * R2D;
+      return Math.atan(a) * R2D;
     case 'atan2':
-      return Math.atan2(v[0], v[1]) * R2D;
+      return Math.atan2(a, v[1]!) * R2D;
   }
 }
 

@@ -178,36 +178,39 @@ class Binder {
       }
       case 'call': {
         const args = n.args.map((x) => this.bind(x));
+        // parse.ts checked the count against FUNCTIONS: every function has a first argument.
+        const [first] = args;
+        if (!first) throw new ExpressionError('syntax', `${n.fn} takes an argument`, n.at);
         let dim: UnitDim | null;
         switch (n.fn) {
           case 'sqrt':
-            dim = args[0].dim ? { L: args[0].dim.L / 2, A: args[0].dim.A / 2 } : null;
+            dim = first.dim ? { L: first.dim.L / 2, A: first.dim.A / 2 } : null;
             break;
           case 'abs':
-            dim = args[0].dim;
+            dim = first.dim;
             break;
           case 'min':
           case 'max':
           case 'hypot':
-            dim = args[0].dim;
-            for (let i = 1; i < args.length; i++) {
-              if (!compatible(dim, args[i].dim)) {
+            dim = first.dim;
+            for (const arg of args.slice(1)) {
+              if (!compatible(dim, arg.dim)) {
                 throw new ExpressionError(
                   'unit-mismatch',
-                  `unit mismatch in ${n.fn}: ${describe(dim)} and ${describe(args[i].dim)}`,
+                  `unit mismatch in ${n.fn}: ${describe(dim)} and ${describe(arg.dim)}`,
                   n.at,
                 );
               }
-              dim = merge(dim, args[i].dim);
+              dim = merge(dim, arg.dim);
             }
             break;
           case 'sin':
           case 'cos':
           case 'tan':
-            if (args[0].dim && args[0].dim.L !== 0) {
+            if (first.dim && first.dim.L !== 0) {
               throw new ExpressionError(
                 'unit-mismatch',
-                `unit mismatch: ${n.fn} takes an angle (degrees), not ${describe(args[0].dim)}`,
+                `unit mismatch: ${n.fn} takes an angle (degrees), not ${describe(first.dim)}`,
                 n.at,
               );
             }
@@ -216,25 +219,28 @@ class Binder {
           case 'asin':
           case 'acos':
           case 'atan':
-            if (args[0].dim && (args[0].dim.L !== 0 || args[0].dim.A !== 0)) {
+            if (first.dim && (first.dim.L !== 0 || first.dim.A !== 0)) {
               throw new ExpressionError(
                 'unit-mismatch',
-                `unit mismatch: ${n.fn} takes a plain number, not ${describe(args[0].dim)}`,
+                `unit mismatch: ${n.fn} takes a plain number, not ${describe(first.dim)}`,
                 n.at,
               );
             }
             dim = { L: 0, A: 1 };
             break;
-          case 'atan2':
-            if (!compatible(args[0].dim, args[1].dim)) {
+          case 'atan2': {
+            const second = args[1];
+            if (!second) throw new ExpressionError('syntax', 'atan2 takes 2 arguments', n.at);
+            if (!compatible(first.dim, second.dim)) {
               throw new ExpressionError(
                 'unit-mismatch',
-                `unit mismatch in atan2: ${describe(args[0].dim)} and ${describe(args[1].dim)}`,
+                `unit mismatch in atan2: ${describe(first.dim)} and ${describe(second.dim)}`,
                 n.at,
               );
             }
             dim = { L: 0, A: 1 };
             break;
+          }
         }
         const argNodes = args.map((a) => a.node);
         if (argNodes.every(isConst)) {

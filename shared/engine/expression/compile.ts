@@ -53,7 +53,7 @@ export class BoundRelation implements CompiledRelation {
     const af = this.affine;
     if (af) {
       let s = af.c;
-      for (let j = 0; j < this.vars.length; j++) s += af.a[j] * x[this.vars[j]];
+      for (let j = 0; j < this.vars.length; j++) s += af.a[j]! * x[this.vars[j]!]!;
       return s;
     }
     this.value ??= compileValue(this.root);
@@ -64,7 +64,7 @@ export class BoundRelation implements CompiledRelation {
     const af = this.affine;
     if (af) {
       let s = Math.abs(af.c);
-      for (let j = 0; j < this.vars.length; j++) s += Math.abs(af.a[j] * x[this.vars[j]]);
+      for (let j = 0; j < this.vars.length; j++) s += Math.abs(af.a[j]! * x[this.vars[j]!]!);
       return s;
     }
     this.mag ??= compileMagnitude(this.root);
@@ -103,7 +103,8 @@ function accumulateAffine(n: BNode, f: number, a: Float64Array): number | null {
     case 'num':
       return f * n.v;
     case 'var':
-      a[n.j] += f;
+      // a has one entry per local variable: n.j is one of them.
+      a[n.j]! += f;
       return 0;
     case 'neg':
       return accumulateAffine(n.a, -f, a);
@@ -172,7 +173,7 @@ function compileValue(n: BNode): Ev {
     }
     case 'var': {
       const i = n.gi;
-      return (x) => x[i];
+      return (x) => x[i]!;
     }
     case 'neg': {
       const a = compileValue(n.a);
@@ -198,8 +199,8 @@ function compileValue(n: BNode): Ev {
     case 'call': {
       const args = n.args.map(compileValue);
       const fn = n.fn;
-      if (args.length === 1) {
-        const a = args[0];
+      const [a] = args;
+      if (a && args.length === 1) {
         switch (fn) {
           case 'sqrt':
             return (x) => Math.sqrt(a(x));

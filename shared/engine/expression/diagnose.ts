@@ -28,7 +28,8 @@ export function diagnose(root: BNode, x: Float64Array, names: string[]): Diagnos
         return n.v;
       case 'var': {
         const v = x[n.gi];
-        if (!Number.isFinite(v)) throw new Stop('not-finite', `'${names[n.j]}' has no value`, n.at);
+        if (v === undefined || !Number.isFinite(v))
+          throw new Stop('not-finite', `'${names[n.j]}' has no value`, n.at);
         return v;
       }
       case 'neg':

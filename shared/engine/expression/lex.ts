@@ -59,7 +59,7 @@ export function lex(src: string): { tokens: Token[]; prepared: string } {
   let depth = 0;
   let i = 0;
   while (i < src.length) {
-    const c = src[i];
+    const c = src.charAt(i);
     if (c === ' ' || c === '\t' || c === '\n' || c === '\r') {
       if (c !== ' ') put(i, ' '); // a newline would start a second mathjs statement
       i++;

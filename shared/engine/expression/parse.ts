@@ -19,8 +19,9 @@ import {
   type ParsedRelation,
 } from './vocabulary';
 
-// One private instance holding only the parser; never the global mathjs instance.
-const math = create({ parseDependencies });
+// One private instance holding only the parser; never the global mathjs instance. (mathjs
+// declares its dependency sets as entries of one record, so their types allow a missing one.)
+const math = create({ parseDependencies: parseDependencies! });
 
 const OPS: Record<string, '+' | '-' | '*' | '/' | '^'> = {
   add: '+',
@@ -96,7 +97,8 @@ class SideReader {
           );
         }
         // Own keys only: `toString` or `constructor` are names, not units or functions.
-        if (Object.hasOwn(UNIT_SYMBOLS, name)) return { t: 'unit', unit: UNIT_SYMBOLS[name], at };
+        const unit = Object.hasOwn(UNIT_SYMBOLS, name) ? UNIT_SYMBOLS[name] : undefined;
+        if (unit) return { t: 'unit', unit, at };
         if (name === 'pi') return { t: 'num', v: Math.PI, at };
         if (Object.hasOwn(FUNCTIONS, name)) {
           throw new ExpressionError('forbidden', `${name} is a function: write ${name}(…)`, at);
@@ -105,18 +107,19 @@ class SideReader {
       }
       case 'OperatorNode': {
         const op = n as unknown as { fn: string; op: string; args: MathNode[]; implicit?: boolean };
-        if (op.fn === 'unaryMinus' || op.fn === 'unaryPlus') {
+        const [left, right, ...more] = op.args;
+        if ((op.fn === 'unaryMinus' || op.fn === 'unaryPlus') && left && !right) {
           const at = this.take('op', op.op);
-          const a = this.walk(op.args[0], depth + 1);
+          const a = this.walk(left, depth + 1);
           return op.fn === 'unaryMinus' ? { t: 'neg', a, at } : a;
         }
         const sym = OPS[op.fn];
-        if (!sym || op.args.length !== 2) {
+        if (!sym || !left || !right || more.length > 0) {
           throw new ExpressionError('forbidden', `operator '${op.op}' is not allowed`, this.here());
         }
-        const a = this.walk(op.args[0], depth + 1);
+        const a = this.walk(left, depth + 1);
         const at = op.implicit ? this.here() : this.take('op', op.op);
-        const b = this.walk(op.args[1], depth + 1);
+        const b = this.walk(right, depth + 1);
         return { t: 'bin', op: sym, a, b, at };
       }
       case 'FunctionNode': {
@@ -282,12 +285,11 @@ export function parseRelation(text: string): ParsedRelation {
 
 function parseRelationUncached(text: string): ParsedRelation {
   const { tokens, prepared } = lex(text);
-  const eqs = tokens.filter((t) => t.kind === 'eq');
-  if (eqs.length === 0)
+  const [eq, secondEq] = tokens.filter((t) => t.kind === 'eq');
+  if (!eq)
     throw new ExpressionError('syntax', "a relation needs '=' between its two sides", text.length);
-  if (eqs.length > 1)
-    throw new ExpressionError('forbidden', "a relation has a single '='", eqs[1].at);
-  const eqAt = eqs[0].at;
+  if (secondEq) throw new ExpressionError('forbidden', "a relation has a single '='", secondEq.at);
+  const eqAt = eq.at;
   if (prepared.slice(0, eqAt).trim() === '')
     throw new ExpressionError('syntax', 'the left side is empty', 0);
   if (prepared.slice(eqAt + 1).trim() === '')
@@ -298,12 +300,13 @@ function parseRelationUncached(text: string): ParsedRelation {
     fn?: string;
     args?: MathNode[];
   };
-  if (root.type !== 'OperatorNode' || root.fn !== 'smaller' || root.args?.length !== 2) {
+  const [left, right, ...more] = root.args ?? [];
+  if (root.type !== 'OperatorNode' || root.fn !== 'smaller' || !left || !right || more.length > 0) {
     throw new ExpressionError('syntax', 'a relation is one expression = another', eqAt);
   }
   const reader = new SideReader(tokens, 0);
-  const lhs = reader.walk(root.args[0]);
-  const rhs = reader.walk(root.args[1]);
+  const lhs = reader.walk(left);
+  const rhs = reader.walk(right);
   const names: string[] = [];
   const seen = new Set<string>();
   collectNames(lhs, names, seen);

@@ -13,11 +13,13 @@ export function groupStacks(
   features: readonly FeatureResult[],
 ): SheetGroup[] {
   const groups: SheetGroup[] = [];
-  const groupOf = new Map<string, string[]>();
+  // Each group starts with the part that opened it, so it is never empty.
+  const groupOf = new Map<string, [string, ...string[]]>();
   for (const part of parts) {
     const key = part.stack ? `stack:${part.stack}` : `part:${part.id}`;
-    if (!groupOf.has(key)) groupOf.set(key, []);
-    groupOf.get(key)!.push(part.id);
+    const ids = groupOf.get(key);
+    if (ids) ids.push(part.id);
+    else groupOf.set(key, [part.id]);
   }
   for (const [key, ids] of groupOf) {
     const stack = key.startsWith('stack:') ? key.slice(6) : null;
