@@ -90,15 +90,15 @@ describe('diffModels', () => {
       ];
     });
     const back = reordered(withPattern) as FairsheetModelInput;
-    expect(JSON.stringify(back.features![0].pattern)).not.toBe(
-      JSON.stringify(withPattern.features![0].pattern),
+    expect(JSON.stringify(back.features![0]!.pattern)).not.toBe(
+      JSON.stringify(withPattern.features![0]!.pattern),
     );
     const d = diffModels(withPattern, back);
     expect(isEmptyDiff(d)).toBe(true);
     expect(summariseDiff(d)).toBe('no change');
     // A real change inside the nested object is still one.
     const moved = structuredClone(back);
-    (moved.features![0].pattern as { startDeg: number }).startDeg = 30;
+    (moved.features![0]!.pattern as { startDeg: number }).startDeg = 30;
     expect(diffModels(withPattern, moved).features).toEqual([
       expect.objectContaining({
         key: 'studs',
@@ -106,8 +106,8 @@ describe('diffModels', () => {
         fields: [
           {
             field: 'pattern',
-            from: withPattern.features![0].pattern,
-            to: moved.features![0].pattern,
+            from: withPattern.features![0]!.pattern,
+            to: moved.features![0]!.pattern,
           },
         ],
       }),
@@ -118,7 +118,7 @@ describe('diffModels', () => {
     const mine = edit((m) => ((m.dimensions[1] as { value: string }).value = '7/8'));
     const theirs = edit((m) => {
       (m.dimensions[0] as { value: string }).value = '6 1/2';
-      m.dimensions[1].label = 'Boss length';
+      m.dimensions[1]!.label = 'Boss length';
     });
     const merged = applyDiff(theirs, diffModels(base, mine));
     expect(merged.dimensions[0]).toMatchObject({ value: '6 1/2' });
@@ -130,6 +130,6 @@ describe('diffModels', () => {
     const moves = movedValues(solveModel(base), solveModel(after));
     // 6 1/4 − 3/4 = 5 1/2; 6 3/8 − 3/4 = 5 5/8: the slot grows by 1/8 (exact binary fractions).
     expect(moves.map((m) => m.name)).toEqual(['overall', 'slot']);
-    expect(moves[1].delta).toBeCloseTo(0.125, 12);
+    expect(moves[1]!.delta).toBeCloseTo(0.125, 12);
   });
 });

@@ -50,14 +50,14 @@ X .397 Y .404 Z .413`;
 function triples(text: string): [string, number, number][] {
   const t = text.trim().split(/\s+/);
   const out: [string, number, number][] = [];
-  for (let i = 0; i < t.length; i += 3) out.push([t[i], Number(t[i + 1]), Number(t[i + 2])]);
+  for (let i = 0; i < t.length; i += 3) out.push([t[i]!, Number(t[i + 1]), Number(t[i + 2])]);
   return out;
 }
 
 function pairs(text: string): [string, number][] {
   const t = text.trim().split(/\s+/);
   const out: [string, number][] = [];
-  for (let i = 0; i < t.length; i += 2) out.push([t[i], Number(t[i + 1])]);
+  for (let i = 0; i < t.length; i += 2) out.push([t[i]!, Number(t[i + 1])]);
   return out;
 }
 
@@ -100,18 +100,18 @@ describe('letter drills', () => {
   it('runs A–Z in increasing size, all above #1', () => {
     expect(LETTER_DRILLS.map((d) => d.label).join('')).toBe('ABCDEFGHIJKLMNOPQRSTUVWXYZ');
     for (let i = 1; i < 26; i++)
-      expect(LETTER_DRILLS[i].mm).toBeGreaterThan(LETTER_DRILLS[i - 1].mm);
-    expect(LETTER_DRILLS[0].mm).toBeGreaterThan(label('#1').mm);
+      expect(LETTER_DRILLS[i]!.mm).toBeGreaterThan(LETTER_DRILLS[i - 1]!.mm);
+    expect(LETTER_DRILLS[0]!.mm).toBeGreaterThan(label('#1').mm);
   });
 });
 
 describe('fractional drills', () => {
   it('runs 1/64 to 1 in in 1/64 steps with reduced labels', () => {
     expect(FRACTIONAL_DRILLS).toHaveLength(64);
-    expect(FRACTIONAL_DRILLS[0].label).toBe('1/64"');
-    expect(FRACTIONAL_DRILLS[1].label).toBe('1/32"');
-    expect(FRACTIONAL_DRILLS[19].label).toBe('5/16"');
-    expect(FRACTIONAL_DRILLS[63].label).toBe('1"');
+    expect(FRACTIONAL_DRILLS[0]!.label).toBe('1/64"');
+    expect(FRACTIONAL_DRILLS[1]!.label).toBe('1/32"');
+    expect(FRACTIONAL_DRILLS[19]!.label).toBe('5/16"');
+    expect(FRACTIONAL_DRILLS[63]!.label).toBe('1"');
   });
 
   it.each([
@@ -163,7 +163,7 @@ describe('drillSet', () => {
   ])('the %s set has %i drills, smallest first', (name, count) => {
     const set = drillSet(name);
     expect(set).toHaveLength(count);
-    for (let i = 1; i < set.length; i++) expect(set[i].mm).toBeGreaterThanOrEqual(set[i - 1].mm);
+    for (let i = 1; i < set.length; i++) expect(set[i]!.mm).toBeGreaterThanOrEqual(set[i - 1]!.mm);
   });
 
   it('refuses an unknown set name with a DrillError', () => {

@@ -29,7 +29,7 @@ function bind(
   const names = Object.keys(dims);
   return bindRelation(
     parseRelation(text),
-    (n) => (Object.hasOwn(dims, n) ? { index: names.indexOf(n), quantity: dims[n] } : undefined),
+    (n) => (Object.hasOwn(dims, n) ? { index: names.indexOf(n), quantity: dims[n]! } : undefined),
     unit,
   );
 }
@@ -185,8 +185,9 @@ describe('bindRelation', () => {
       const h = 1e-6;
       const xp = Float64Array.from(x);
       const xm = Float64Array.from(x);
-      xp[r.vars[j]] += h;
-      xm[r.vars[j]] -= h;
+      const v = r.vars[j]!;
+      xp[v] = x[v]! + h;
+      xm[v] = x[v]! - h;
       expect(g[j]).toBeCloseTo((r.residual(xp) - r.residual(xm)) / (2 * h), 5);
     }
   });
@@ -334,7 +335,7 @@ describe('part-qualified names', () => {
       relations: [{ id: 'line_up', expr: 'frame.bolt_x = hornblock.bolt_x + 4' }],
     });
     expect(r.status).toBe('solved');
-    expect(r.values['frame.bolt_x'].value).toBeCloseTo(4.3125, 12);
+    expect(r.values['frame.bolt_x']!.value).toBeCloseTo(4.3125, 12);
   });
 
   it('still refuses property access beyond one qualifier', () => {

@@ -65,13 +65,13 @@ describe('evaluateFeatures: pattern positions', () => {
     ];
     expect(rows).toHaveLength(6);
     rows.forEach((row, i) => {
-      close(row.x.value, expected[i][0]);
-      close(row.y.value, expected[i][1]);
+      close(row.x.value, expected[i]![0]);
+      close(row.y.value, expected[i]![1]);
     });
     // The stack-up comes from the solver: ∂x₀/∂pcd = 1/2, so ±0.1 on the PCD is ±0.05 on x₀.
-    close(rows[0].x.worstCase, 0.05, 1e-9);
-    expect(rows[0].x.contributors.map((c) => c.name)).toEqual(['pcd']);
-    expect(rows[1].label).toBe('bolts 2/6');
+    close(rows[0]!.x.worstCase, 0.05, 1e-9);
+    expect(rows[0]!.x.contributors.map((c) => c.name)).toEqual(['pcd']);
+    expect(rows[1]!.label).toBe('bolts 2/6');
   });
 
   it('expands 5 holes on PCD 50 from 90° (check-values §10)', () => {
@@ -101,8 +101,8 @@ describe('evaluateFeatures: pattern positions', () => {
       [23.77641, 7.72542],
     ];
     feature(r, 'b').rows.forEach((row, i) => {
-      close(row.x.value, expected[i][0]);
-      close(row.y.value, expected[i][1]);
+      close(row.x.value, expected[i]![0]);
+      close(row.y.value, expected[i]![1]);
     });
   });
 
@@ -131,7 +131,7 @@ describe('evaluateFeatures: pattern positions', () => {
     expect(rows.map((h) => h.x.value)).toEqual([0.5, 0.5, 0.5]);
     rows.forEach((h, i) => close(h.y.value, 0.5 + 0.75 * i, 1e-12));
     // The third hole rests on the edge once and the pitch twice: 1/64 + 2 × 1/64.
-    close(rows[2].y.worstCase, 3 / 64, 1e-12);
+    close(rows[2]!.y.worstCase, 3 / 64, 1e-12);
   });
 });
 
@@ -308,7 +308,7 @@ describe('evaluateFeatures: problems are reported per feature, never thrown', ()
     expect(feature(r, 'unsolved').x.value).toBeNull();
     expect(codes('syntax')).toEqual(['expression']);
     expect(codes('unknown')).toEqual(['unknown-name']);
-    expect(feature(r, 'unknown').errors[0].message).toMatch(/'b'/);
+    expect(feature(r, 'unknown').errors[0]!.message).toMatch(/'b'/);
     expect(codes('units')).toEqual(['unit-mismatch']);
     expect(codes('fine')).toEqual([]);
     expect(r.issues.map((i) => i.code)).toContain('duplicate-id');
@@ -324,7 +324,7 @@ describe('evaluateFeatures: problems are reported per feature, never thrown', ()
   it('answers an unreadable model with one schema issue', () => {
     const bad = evaluateFeatures({ format: 'something else' });
     expect(bad.status).toBe('invalid');
-    expect(bad.issues[0].code).toBe('schema');
+    expect(bad.issues[0]!.code).toBe('schema');
   });
 });
 
@@ -361,7 +361,7 @@ describe('evaluateFeatures: pressure, stacks and readout order', () => {
 
   it('warns on every feature of a pressure-bearing part that rests on a scaled or assumed value', () => {
     expect(feature(r, 'studs').warnings).toHaveLength(1);
-    expect(feature(r, 'studs').warnings[0].names).toEqual(['pcd']);
+    expect(feature(r, 'studs').warnings[0]!.names).toEqual(['pcd']);
     expect(feature(r, 'bore').warnings).toEqual([]);
     expect(r.groups.find((g) => g.id === 'flange')?.pressureFeatures).toEqual(['studs']);
   });
@@ -392,12 +392,12 @@ describe('the Kestrel demo parts', () => {
     const frameAft = feature(r, 'h1_aft');
     const hbFwd = feature(r, 'hb_flange_fwd');
     const hbAft = feature(r, 'hb_flange_aft');
-    const frameSpacing = frameAft.rows[0].x.value! - frame.rows[0].x.value!;
-    const hbSpacing = hbAft.rows[0].x.value! - hbFwd.rows[0].x.value!;
+    const frameSpacing = frameAft.rows[0]!.x.value! - frame.rows[0]!.x.value!;
+    const hbSpacing = hbAft.rows[0]!.x.value! - hbFwd.rows[0]!.x.value!;
     close(hbSpacing, frameSpacing, 1e-12);
     close(
-      hbFwd.rows[1].y.value! - hbFwd.rows[0].y.value!,
-      frame.rows[1].y.value! - frame.rows[0].y.value!,
+      hbFwd.rows[1]!.y.value! - hbFwd.rows[0]!.y.value!,
+      frame.rows[1]!.y.value! - frame.rows[0]!.y.value!,
       1e-12,
     );
     expect(frame.thread?.designation).toBe('4BA');

@@ -36,7 +36,7 @@ describe('upstreamText', () => {
     const tol = model();
     (tol.dimensions[1] as { tol?: string }).tol = '0.002';
     const rel = model();
-    rel.relations![1].expr = 'horn2 = horn1 + pitch + 0';
+    rel.relations![1]!.expr = 'horn2 = horn1 + pitch + 0';
     for (const changed of [value, tol, rel]) expect(text(changed, 'horn2')).not.toBe(before);
   });
 
@@ -44,7 +44,7 @@ describe('upstreamText', () => {
     const before = text(model(), 'horn2');
     const other = model();
     (other.dimensions[2] as { value: string }).value = '2 1/8';
-    other.dimensions[0].label = 'A new label';
+    other.dimensions[0]!.label = 'A new label';
     expect(text(other, 'horn2')).toBe(before);
   });
 

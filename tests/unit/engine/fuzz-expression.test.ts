@@ -85,7 +85,7 @@ function expectAllowed(n: ExprNode, length: number): void {
       return;
     case 'call': {
       expect(Object.hasOwn(allowedFunctions, n.fn)).toBe(true);
-      const [min, max] = allowedFunctions[n.fn];
+      const [min, max] = allowedFunctions[n.fn]!;
       expect(n.args.length >= min && n.args.length <= max).toBe(true);
       for (const a of n.args) expectAllowed(a, length);
       return;
@@ -136,9 +136,9 @@ function exercise(text: string, point: number[], asRelation = true): 'refused' |
       parseRelation(text),
       (n) =>
         DIMENSION_NAME.test(n) ? { index: names.indexOf(n), quantity: quantityOf(n) } : undefined,
-      point[0] > 0 ? 'in' : 'mm',
+      point[0]! > 0 ? 'in' : 'mm',
     );
-    const x = Float64Array.from(names, (_, i) => point[i % point.length]);
+    const x = Float64Array.from(names, (_, i) => point[i % point.length]!);
     const g = new Float64Array(compiled.vars.length);
     expect(typeof compiled.residual(x)).toBe('number');
     expect(typeof compiled.scale(x)).toBe('number');

@@ -105,9 +105,9 @@ describe('expressions of any depth and width', () => {
           JSON.stringify(features);
           if (expr.trim().length > MODEL_LIMITS.expressionCharacters) {
             expect(features.status).toBe('invalid');
-            expect(features.issues[0].message).toMatch(/at most 2,000 characters/);
+            expect(features.issues[0]!.message).toMatch(/at most 2,000 characters/);
           } else if (exprRefused?.code === 'over-limit') {
-            expect(features.features[0].errors).toContainEqual(
+            expect(features.features[0]!.errors).toContainEqual(
               expect.objectContaining({ code: 'expression', field: 'x' }),
             );
           }

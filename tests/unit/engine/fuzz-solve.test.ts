@@ -206,7 +206,7 @@ const model = fc.oneof(
         relations: rels.map((r) => ({
           ...r,
           expr: r.expr.replace(/§(\d)/g, (_, k: string) =>
-            dimensions.length ? dimensions[Number(k) % dimensions.length].name : 'a',
+            dimensions.length ? dimensions[Number(k) % dimensions.length]!.name : 'a',
           ),
         })),
       })),
@@ -295,12 +295,12 @@ describe('solveModel at its time limit', () => {
       relations: [{ id: 'circle', expr: 'x^2 + h^2 = r^2' }],
     };
     // Without a limit the same block converges: the limit is what stops it.
-    expect(solveModel(m).values.x.value).toBeCloseTo(12, 9); // 5-12-13 triangle: √(13² − 5²)
+    expect(solveModel(m).values.x!.value).toBeCloseTo(12, 9); // 5-12-13 triangle: √(13² − 5²)
     const started = performance.now();
     const r = solveModel(m, { timeLimitMs: 0, maxIterations: 1e9 });
     expect(performance.now() - started).toBeLessThan(marginMs);
     expect(r.status).toBe('invalid');
-    expect(r.values.x.value).toBeNull();
+    expect(r.values.x!.value).toBeNull();
     expect(r.errors).toEqual([
       expect.objectContaining({
         code: 'no-convergence',
@@ -332,7 +332,7 @@ describe('solveModel at its time limit', () => {
     expect(r.errors).toHaveLength(stopped.length);
     for (let i = 0; i < n; i++) {
       const g = 3 + (i % 7);
-      const x = r.values[`x${i}`].value;
+      const x = r.values[`x${i}`]!.value;
       if (stoppedIds.has(`r${i}`)) expect(x).toBeNull();
       else expect(x).toBeCloseTo(Math.hypot(g, 4), 9);
     }

@@ -71,7 +71,7 @@ describe('expression limits', () => {
   it('refuses a chain of operations deeper than the limit, and reads one at the limit', () => {
     // A sum of n terms is n − 1 additions inside one another.
     const within = modelWith(`x = ${sum(EXPRESSION_LIMITS.depth)}`);
-    expect(solveModel(within).values.x.value).toBeCloseTo(EXPRESSION_LIMITS.depth, 9);
+    expect(solveModel(within).values.x!.value).toBeCloseTo(EXPRESSION_LIMITS.depth, 9);
     const e = refusal(() => parseExpression(sum(EXPRESSION_LIMITS.depth + 2)));
     expect(e.code).toBe('over-limit');
     expect(e.message).toMatch(/more than 200 operations inside one another/);
@@ -84,7 +84,7 @@ describe('expression limits', () => {
   it('refuses a min, max or hypot with more arguments than the limit, at the function name', () => {
     const args = (n: number) => Array(n).fill('a').join(',');
     const max = EXPRESSION_LIMITS.arguments;
-    expect(solveModel(modelWith(`x = max(${args(max)})`)).values.x.value).toBeCloseTo(1, 12);
+    expect(solveModel(modelWith(`x = max(${args(max)})`)).values.x!.value).toBeCloseTo(1, 12);
     for (const fn of ['min', 'max', 'hypot']) {
       const e = refusal(() => parseExpression(`1 + ${fn}(${args(max + 1)})`));
       expect(e).toMatchObject({ code: 'over-limit', at: 4 });
@@ -137,7 +137,7 @@ describe('expression limits', () => {
         { id: 'deep', part: 'plate', kind: 'hole', x: sum(300), y: 'b' },
       ],
     });
-    expect(r.features.find((f) => f.id === 'ok')?.rows[0].x.value).toBeCloseTo(1, 12);
+    expect(r.features.find((f) => f.id === 'ok')?.rows[0]!.x.value).toBeCloseTo(1, 12);
     expect(r.features.find((f) => f.id === 'deep')?.errors).toEqual([
       expect.objectContaining({
         code: 'expression',
@@ -238,8 +238,8 @@ describe('model limits', () => {
       features: [{ id: 'f', part: 'plate', kind: 'hole', x: 'd7', y: 'd9 / 3' }],
     });
     expect(r.status).not.toBe('invalid');
-    expect(r.features[0].rows[0].x.value).toBeCloseTo(7, 12);
-    expect(r.features[0].rows[0].y.value).toBeCloseTo(3, 12);
+    expect(r.features[0]!.rows[0]!.x.value).toBeCloseTo(7, 12);
+    expect(r.features[0]!.rows[0]!.y.value).toBeCloseTo(3, 12);
   });
 
   it('solveModel reports a model over a limit as a schema error, never throwing', () => {
@@ -247,7 +247,7 @@ describe('model limits', () => {
     const r = solveModel({ ...base, dimensions: dims });
     expect(r.status).toBe('invalid');
     expect(r.errors[0]).toMatchObject({ code: 'schema' });
-    expect(r.errors[0].message).toMatch(/at most 10,000 dimensions/);
+    expect(r.errors[0]!.message).toMatch(/at most 10,000 dimensions/);
   });
 
   it('bounds a server Monte Carlo by samples × dimensions', () => {

@@ -51,7 +51,7 @@ function laterSwaps(a: number[][]): number {
   for (let k = 0; k < at.length; k++) {
     if (at[k] === k) continue;
     const j = at.indexOf(k, k + 1);
-    [at[k], at[j]] = [at[j], at[k]];
+    [at[k], at[j]] = [at[j]!, at[k]!];
     if (k > 0) swaps++;
   }
   return swaps;
@@ -75,7 +75,7 @@ function asRows(a: number[][]): SparseRow[] {
 function expectClose(ours: ArrayLike<number>, ref: number[], cond: number): void {
   const scale = Math.max(1, ...ref.map(Math.abs));
   for (let i = 0; i < ref.length; i++)
-    expect(Math.abs(ours[i] - ref[i])).toBeLessThanOrEqual(1e-12 * cond * scale + 1e-12);
+    expect(Math.abs(ours[i]! - ref[i]!)).toBeLessThanOrEqual(1e-12 * cond * scale + 1e-12);
 }
 
 /** A cheap bound on the condition number: ‖A‖∞·‖A⁻¹‖∞ from ml-matrix's inverse. */
@@ -152,14 +152,14 @@ describe('linear solves against ml-matrix, on systems that need row swaps at lat
           const inv = inverse(new Matrix(a));
           const x = inv.mmul(Matrix.columnVector(g)).to1DArray();
           for (let j = 0; j < n; j++) {
-            const v = result.values[`x${j}`];
-            const scale = Math.max(1, Math.abs(x[j]));
-            expect(Math.abs(v.value! - x[j])).toBeLessThanOrEqual(1e-12 * cond * scale);
+            const v = result.values[`x${j}`]!;
+            const scale = Math.max(1, Math.abs(x[j]!));
+            expect(Math.abs(v.value! - x[j]!)).toBeLessThanOrEqual(1e-12 * cond * scale);
             let worst = 0;
             let sumSq = 0;
             for (let i = 0; i < n; i++) {
-              worst += Math.abs(inv.get(j, i)) * tol[i];
-              sumSq += (inv.get(j, i) * tol[i]) ** 2;
+              worst += Math.abs(inv.get(j, i)) * tol[i]!;
+              sumSq += (inv.get(j, i) * tol[i]!) ** 2;
             }
             const slack = 1e-12 * cond * Math.max(1, worst);
             expect(Math.abs(v.worstCase! - worst)).toBeLessThanOrEqual(slack);
@@ -206,7 +206,7 @@ describe('linear solves against ml-matrix, on systems that need row swaps at lat
     expect(result.status).toBe('solved');
     // Values come back in the model's units (inches here).
     for (const [name, e] of Object.entries(expected)) {
-      const v = result.values[name];
+      const v = result.values[name]!;
       expect(v.value!).toBeCloseTo(e.value, 7);
       expect(v.worstCase!).toBeCloseTo(e.worst, 7);
       expect(v.rss!).toBeCloseTo(e.rss, 7);
@@ -231,7 +231,7 @@ describe('the covariance solve that ranks suspects', () => {
           const redundant: RedundantRelation[] = A.map((row, i) => ({
             id: `r${i}`,
             relations: [`r${i}`],
-            residual: residual[i],
+            residual: residual[i]!,
             scale: 1,
             gradient: new Map(row.map((v, g) => [g, v] as [number, number])),
           }));
@@ -308,9 +308,9 @@ describe('the covariance solve that ranks suspects', () => {
       'w1',
     ]);
     for (const c of result.contradictions) {
-      expect(c.suspects[0].name).toBe('pcd');
+      expect(c.suspects[0]!.name).toBe('pcd');
       // 3.000 is what the other figures say: the correction takes 3 1/8 back to it.
-      expect(result.values.pcd.value! + c.suspects[0].correction).toBeCloseTo(3, 2);
+      expect(result.values.pcd!.value! + c.suspects[0]!.correction).toBeCloseTo(3, 2);
     }
   });
 });
@@ -336,7 +336,7 @@ describe('the calibration’s solve', () => {
     const rows: number[][] = [];
     const rhs: number[] = [];
     sheet.forEach((p, i) => {
-      const q = plane[i];
+      const q = plane[i]!;
       rows.push([p.x, p.y, 1, 0, 0, 0, -q.x * p.x, -q.x * p.y]);
       rhs.push(q.x);
       rows.push([0, 0, 0, p.x, p.y, 1, -q.y * p.x, -q.y * p.y]);
@@ -352,8 +352,8 @@ describe('the calibration’s solve', () => {
     // least-squares path (normal equations), four the exact one.
     const reference = (p: { x: number; y: number }) => {
       const [a, b, c, d, e, f, g, k] = h;
-      const w = g * p.x + k * p.y + 1;
-      return { x: (a * p.x + b * p.y + c) / w, y: (d * p.x + e * p.y + f) / w };
+      const w = g! * p.x + k! * p.y + 1;
+      return { x: (a! * p.x + b! * p.y + c!) / w, y: (d! * p.x + e! * p.y + f!) / w };
     };
     const extra = [
       { x: 500, y: 360 },

@@ -81,8 +81,8 @@ describe('model schema v1', () => {
       ],
       relations: [{ id: 'r1', expr: 'overall = boss + slot', note: 'chain' }],
     });
-    expect(m.dimensions[0].quantity).toBe('length');
-    expect(m.relations[0].enabled).toBe(true);
+    expect(m.dimensions[0]!.quantity).toBe('length');
+    expect(m.relations[0]!.enabled).toBe(true);
   });
 
   it('refuses bad names, unknown kinds, a given without value and mixed tolerance styles', () => {

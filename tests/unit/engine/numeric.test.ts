@@ -70,7 +70,7 @@ describe('linear solvers', () => {
           });
           const ours = (sparse ? factorSparse(n, rows) : factorRows(n, rows))!.solve(b);
           const ref = mlSolve(new Matrix(A), Matrix.columnVector(b)).to1DArray();
-          ref.forEach((v, i) => expect(Math.abs(ours[i] - v)).toBeLessThan(1e-9));
+          ref.forEach((v, i) => expect(Math.abs(ours[i]! - v)).toBeLessThan(1e-9));
         },
       ),
       { numRuns: 300 },

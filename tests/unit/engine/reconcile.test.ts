@@ -33,7 +33,7 @@ describe('reconcileRedundant', () => {
       protectedValue: () => false,
     });
     expect(out.contradictions).toEqual([]);
-    expect(out.checks[0].allowed).toBeCloseTo(0.04, 12);
+    expect(out.checks[0]!.allowed).toBeCloseTo(0.04, 12);
   });
 
   it('passes a residual exactly at the allowance despite rounding', () => {
@@ -55,11 +55,11 @@ describe('reconcileRedundant', () => {
       names,
       protectedValue: () => false,
     });
-    const s = out.contradictions[0].suspects;
+    const s = out.contradictions[0]!.suspects;
     expect(s.map((x) => x.name)).toEqual(['c', 'b', 'a', 'overall']); // a and overall tie: by name
-    expect(s[0].score).toBeCloseTo(1, 12);
-    expect(s[0].correction).toBeCloseTo(0.1, 12); // c + 0.1 closes the chain
-    expect(s[0].normalised).toBeCloseTo(5, 12);
+    expect(s[0]!.score).toBeCloseTo(1, 12);
+    expect(s[0]!.correction).toBeCloseTo(0.1, 12); // c + 0.1 closes the chain
+    expect(s[0]!.normalised).toBeCloseTo(5, 12);
     expect(s.find((x) => x.name === 'overall')!.correction).toBeCloseTo(-0.1, 12);
   });
 
@@ -71,7 +71,7 @@ describe('reconcileRedundant', () => {
       names,
       protectedValue: (i) => i === 3,
     });
-    expect(out.contradictions[0].suspects.map((x) => x.name)).not.toContain('c');
+    expect(out.contradictions[0]!.suspects.map((x) => x.name)).not.toContain('c');
   });
 
   it('judges an unequal tolerance about its centre', () => {
@@ -97,8 +97,8 @@ describe('reconcileRedundant', () => {
       names,
       protectedValue: () => false,
     });
-    expect(out.contradictions[0].suspects).toHaveLength(4);
-    expect(out.contradictions[0].suspects[0].normalised).toBeNull();
+    expect(out.contradictions[0]!.suspects).toHaveLength(4);
+    expect(out.contradictions[0]!.suspects[0]!.normalised).toBeNull();
   });
 
   it('uses agreeing relations to clear the values they share', () => {
@@ -120,9 +120,9 @@ describe('reconcileRedundant', () => {
       protectedValue: () => false,
     });
     expect(out.checks.map((c) => c.relation)).toEqual(['r2']);
-    const s = out.contradictions[0].suspects;
-    expect(s[0].name).toBe('b');
-    expect(s[0].score).toBeCloseTo(1, 12);
-    expect(s[1].score).toBeLessThan(1);
+    const s = out.contradictions[0]!.suspects;
+    expect(s[0]!.name).toBe('b');
+    expect(s[0]!.score).toBeCloseTo(1, 12);
+    expect(s[1]!.score).toBeLessThan(1);
   });
 });

@@ -43,7 +43,7 @@ describe('boltCircle', () => {
       [25, -43.30127],
     ];
     expect(holes).toHaveLength(6);
-    holes.forEach((h, i) => expectXY(h, ...expected[i]));
+    holes.forEach((h, i) => expectXY(h, ...expected[i]!));
     expect(holes.map((h) => h.angleDeg)).toEqual([0, 60, 120, 180, 240, 300]);
     expect(boltCircleChord(100, 6)).toBeCloseTo(50, 9); // [computed] PCD·sin(30°)
   });
@@ -58,14 +58,14 @@ describe('boltCircle', () => {
       [14.69463, -20.22542],
       [23.77641, 7.72542],
     ];
-    holes.forEach((h, i) => expectXY(h, ...expected[i]));
+    holes.forEach((h, i) => expectXY(h, ...expected[i]!));
     expect(boltCircleChord(50, 5)).toBeCloseTo(29.38926, 5); // [computed] check-values §10
   });
 
   it('places 8 holes on PCD 3.000 from 22.5° (check-values §10)', () => {
     const holes = boltCircle({ pcd: 3, count: 8, startAngleDeg: 22.5 });
-    expectXY(holes[0], 1.38582, 0.57403); // [computed] check-values §10
-    expectXY(holes[1], 0.57403, 1.38582); // [computed] check-values §10
+    expectXY(holes[0]!, 1.38582, 0.57403); // [computed] check-values §10
+    expectXY(holes[1]!, 0.57403, 1.38582); // [computed] check-values §10
     expect(boltCircleChord(3, 8)).toBeCloseTo(1.14805, 5); // [computed] check-values §10
     for (const h of holes) expect(Math.hypot(h.x, h.y)).toBeCloseTo(1.5, 12);
   });
@@ -82,13 +82,13 @@ describe('boltCircle', () => {
 
   it('offsets every hole by the centre', () => {
     const holes = boltCircle({ pcd: 100, count: 6, centre: { x: 10, y: -20 } });
-    expectXY(holes[1], 35, 23.30127);
+    expectXY(holes[1]!, 35, 23.30127);
   });
 
   it('spaces adjacent holes by the chord PCD·sin(180°/N)', () => {
     for (const count of [3, 5, 7, 12]) {
       const holes = boltCircle({ pcd: 80, count, startAngleDeg: 13 });
-      const chord = Math.hypot(holes[1].x - holes[0].x, holes[1].y - holes[0].y);
+      const chord = Math.hypot(holes[1]!.x - holes[0]!.x, holes[1]!.y - holes[0]!.y);
       expect(chord).toBeCloseTo(boltCircleChord(80, count), 10);
     }
   });
@@ -114,9 +114,9 @@ describe('holeRow', () => {
   it('steps holes along any direction, CCW from +X', () => {
     const up = holeRow({ start: { x: 0, y: 0 }, pitch: 10, count: 3, directionDeg: 90 });
     expect(up.map((h) => h.x.toFixed(3))).toEqual(['0.000', '0.000', '0.000']);
-    expectXY(up[2], 0, 20, 1e-12);
+    expectXY(up[2]!, 0, 20, 1e-12);
     const slant = holeRow({ start: { x: 1, y: 2 }, pitch: 10, count: 2, directionDeg: 30 });
-    expectXY(slant[1], 1 + 10 * Math.cos(Math.PI / 6), 2 + 5, 1e-12);
+    expectXY(slant[1]!, 1 + 10 * Math.cos(Math.PI / 6), 2 + 5, 1e-12);
   });
 
   it('refuses a zero pitch or no holes', () => {

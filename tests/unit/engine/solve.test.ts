@@ -26,7 +26,7 @@ const derived = (name: string, extra: Record<string, unknown> = {}): Dim => ({
   kind: 'derived',
   ...extra,
 });
-const value = (r: SolveResult, name: string) => r.values[name].value!;
+const value = (r: SolveResult, name: string) => r.values[name]!.value!;
 
 describe('solveModel: chains and blocks', () => {
   it('solves a chain in dependency order and keeps its trace', () => {
@@ -48,9 +48,9 @@ describe('solveModel: chains and blocks', () => {
     expect(r.status).toBe('solved');
     expect(value(r, 'slot')).toBeCloseTo(6.25 - 0.75 - 1.52, 12);
     expect(value(r, 'rest')).toBeCloseTo(6.25 - 0.75 - 2 * 1.52, 12);
-    expect(r.values.rest.from).toEqual(['r2']);
-    expect(r.values.rest.trace.relations.map((t) => t.id)).toEqual(['r1', 'r2']);
-    expect(r.values.rest.trace.inputs.map((t) => t.name)).toEqual(['overall', 'boss', 'web']);
+    expect(r.values.rest!.from).toEqual(['r2']);
+    expect(r.values.rest!.trace.relations.map((t) => t.id)).toEqual(['r1', 'r2']);
+    expect(r.values.rest!.trace.inputs.map((t) => t.name)).toEqual(['overall', 'boss', 'web']);
     expect(r.values.boss).toMatchObject({ value: 0.75, worstCase: 0.002, rss: 0.002, from: [] });
   });
 
@@ -66,9 +66,9 @@ describe('solveModel: chains and blocks', () => {
     );
     expect(value(r, 'x')).toBeCloseTo(6, 12);
     expect(value(r, 'y')).toBeCloseTo(4, 12);
-    expect(r.values.x.from).toEqual(['sum', 'diff']);
+    expect(r.values.x!.from).toEqual(['sum', 'diff']);
     // x = (p + q)/2: sensitivities ½ and ½.
-    expect(r.values.x.contributors.map((c) => c.sensitivity)).toEqual([
+    expect(r.values.x!.contributors.map((c) => c.sensitivity)).toEqual([
       expect.closeTo(0.5, 12),
       expect.closeTo(0.5, 12),
     ]);
@@ -85,7 +85,7 @@ describe('solveModel: chains and blocks', () => {
         ],
       ),
     );
-    expect(r.values.x.from).toEqual(['c1', 'c2', 'c3']);
+    expect(r.values.x!.from).toEqual(['c1', 'c2', 'c3']);
     // x = z + 2 and z + x = 6 → z = 2, y = 3, x = 4.
     expect(value(r, 'x')).toBeCloseTo(4, 12);
     expect(value(r, 'y')).toBeCloseTo(3, 12);
@@ -111,7 +111,7 @@ describe('solveModel: chains and blocks', () => {
     );
     expect(value(r, 'x1')).toBeCloseTo(25, 10);
     expect(value(r, 'y1')).toBeCloseTo(43.30127, 5);
-    expect(r.values.x1.contributors[0]).toMatchObject({
+    expect(r.values.x1!.contributors[0]).toMatchObject({
       name: 'pcd',
       sensitivity: expect.closeTo(0.25, 12),
     });
@@ -172,8 +172,8 @@ describe('solveModel: chains and blocks', () => {
     );
     expect(r.status).toBe('invalid');
     expect(r.errors[0]).toMatchObject({ code: 'no-convergence', relation: 'circle' });
-    expect(r.errors[0].residual).toBeGreaterThan(1);
-    expect(r.values.x.value).toBeNull();
+    expect(r.errors[0]!.residual).toBeGreaterThan(1);
+    expect(r.values.x!.value).toBeNull();
   });
 
   it('says when the time limit, not the block, stopped a non-linear solve', () => {
@@ -186,11 +186,11 @@ describe('solveModel: chains and blocks', () => {
     expect(r.errors).toEqual([
       expect.objectContaining({ code: 'no-convergence', relation: 'circle', timeLimitMs: 0 }),
     ]);
-    expect(r.errors[0].message).toMatch(/stopped by the time limit of 0 ms before it converged/);
+    expect(r.errors[0]!.message).toMatch(/stopped by the time limit of 0 ms before it converged/);
     // Out of iterations instead: the old message, and no time limit named.
     const out = solveModel(m, { maxIterations: 0 });
-    expect(out.errors[0].message).toMatch(/did not converge/);
-    expect(out.errors[0].timeLimitMs).toBeUndefined();
+    expect(out.errors[0]!.message).toMatch(/did not converge/);
+    expect(out.errors[0]!.timeLimitMs).toBeUndefined();
     expect(value(solveModel(m), 'x')).toBeCloseTo(12, 9); // 5-12-13 triangle
   });
 
@@ -218,14 +218,14 @@ describe('solveModel: redundancy', () => {
     expect(r.status).toBe('solved');
     expect(r.contradictions).toEqual([]);
     expect(r.checks).toHaveLength(1);
-    expect(r.checks[0].residual).toBeCloseTo(0.01, 12);
-    expect(r.checks[0].allowed).toBeCloseTo(0.015 + 1 / 64, 12);
+    expect(r.checks[0]!.residual).toBeCloseTo(0.01, 12);
+    expect(r.checks[0]!.allowed).toBeCloseTo(0.015 + 1 / 64, 12);
   });
 
   it('reports a chain that does not add up as a contradiction, loosest value first', () => {
     const r = solveModel(chain('6.375'));
     expect(r.status).toBe('contradictory');
-    const c = r.contradictions[0];
+    const c = r.contradictions[0]!;
     expect(c.relation).toBe('total');
     expect(c.residual).toBeCloseTo(0.125, 12);
     // A single closing relation cannot tell its inputs apart (all explain it fully); the
@@ -259,10 +259,10 @@ describe('solveModel: redundancy', () => {
     );
     expect(r.contradictions.map((c) => c.relation)).toEqual(['one', 'two']);
     for (const c of r.contradictions) {
-      expect(c.suspects[0].name).toBe('b');
-      expect(c.suspects[0].correction).toBeCloseTo(-0.125, 9);
-      expect(c.suspects[0].score).toBeCloseTo(1, 9);
-      expect(c.suspects[1].score).toBeLessThan(0.9);
+      expect(c.suspects[0]!.name).toBe('b');
+      expect(c.suspects[0]!.correction).toBeCloseTo(-0.125, 9);
+      expect(c.suspects[0]!.score).toBeCloseTo(1, 9);
+      expect(c.suspects[1]!.score).toBeLessThan(0.9);
     }
     expect(r.checks.map((c) => c.relation)).toEqual(['three']);
   });
@@ -279,7 +279,7 @@ describe('solveModel: redundancy', () => {
       ),
     );
     expect(r.status).toBe('contradictory');
-    const names = r.contradictions[0].suspects.map((s) => s.name);
+    const names = r.contradictions[0]!.suspects.map((s) => s.name);
     expect(names).not.toContain('overall');
     expect(names[0]).toBe('b');
   });
@@ -307,7 +307,7 @@ describe('solveModel: redundancy', () => {
       residual: expect.closeTo(-0.02, 12),
       allowed: expect.closeTo(0.05, 12),
     });
-    expect(r.checks[0].relations).toEqual(['r1', 'r2']);
+    expect(r.checks[0]!.relations).toEqual(['r1', 'r2']);
   });
 });
 
@@ -335,7 +335,7 @@ describe('solveModel: incomplete models', () => {
     const group = r.openGroups.find((g) => g.unknowns.includes('x'))!;
     expect(group.needs).toBe(1);
     expect(group.measure).toHaveLength(1);
-    expect(r.values.x.value).toBeNull();
+    expect(r.values.x!.value).toBeNull();
     expect(r.openGroups.find((g) => g.unknowns.includes('lone'))!.needs).toBe(1);
   });
 });
@@ -363,8 +363,8 @@ describe('solveModel: errors', () => {
       ),
     );
     expect(codes(r)).toEqual(['duplicate-name', 'duplicate-name']);
-    expect(r.errors[0].dimension).toBe('a');
-    expect(r.errors[1].relation).toBe('r');
+    expect(r.errors[0]!.dimension).toBe('a');
+    expect(r.errors[1]!.relation).toBe('r');
   });
 
   it('reports a reserved name, an unreadable value and an angle given to a length', () => {
@@ -373,7 +373,7 @@ describe('solveModel: errors', () => {
     );
     expect(codes(r)).toEqual(['reserved-name', 'bad-value', 'bad-value']);
     expect(r.errors[1]).toMatchObject({ dimension: 'a', at: 6 });
-    expect(r.errors[2].message).toMatch(/unit mismatch/);
+    expect(r.errors[2]!.message).toMatch(/unit mismatch/);
   });
 
   it('reserves __proto__, which would otherwise vanish from the values; other object words are names', () => {
@@ -509,7 +509,7 @@ describe('solveModel: properties', () => {
           // The stack-up of x = A⁻¹g: sensitivities are the rows of A⁻¹.
           const inv = mlSolve(new Matrix(A), Matrix.eye(n));
           const sens = Object.fromEntries(
-            r.values.x0.contributors.map((c) => [c.name, c.sensitivity]),
+            r.values.x0!.contributors.map((c) => [c.name, c.sensitivity]),
           );
           for (let j = 0; j < n; j++) expect(sens[`g${j}`] ?? 0).toBeCloseTo(inv.get(0, j), 9);
         },
@@ -553,7 +553,7 @@ describe('solveModel: properties', () => {
         fc.array(fc.double({ min: -5, max: 5, noNaN: true }), { minLength: 5, maxLength: 5 }),
         (rels, kinds, vals) => {
           const dims = names.map((n, i) =>
-            kinds[i] === 'derived' ? derived(n) : given(n, vals[i], 0.01, kinds[i]),
+            kinds[i] === 'derived' ? derived(n) : given(n, vals[i]!, 0.01, kinds[i]),
           );
           const r = solveModel(
             model(

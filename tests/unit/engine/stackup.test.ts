@@ -29,7 +29,7 @@ const shigley = model(
 
 describe('stack-up', () => {
   it("matches Shigley's Example 1-3: w = 0.005 ± 0.010 worst case, ± 0.006 RSS", () => {
-    const w = solveModel(shigley).values.w;
+    const w = solveModel(shigley).values.w!;
     expect(w.value).toBeCloseTo(0.005, 12); // Shigley Ex. 1-3: w̄ = 0.005 in
     expect(w.worstCase).toBeCloseTo(0.01, 12); // Shigley Ex. 1-3: t_w = 0.010 in
     expect(w.rss).toBeCloseTo(0.006, 12); // √Σt² = 0.006 in (check-values §7.2, Shigley's own formula)
@@ -55,7 +55,7 @@ describe('stack-up', () => {
         'mm',
       ),
     );
-    const X = r.values.X;
+    const X = r.values.X!;
     expect(X.value).toBeCloseTo(24, 12);
     expect(X.worstCase).toBeCloseTo(0.11, 12);
     expect(X.rss).toBeCloseTo(0.06245, 6);
@@ -80,7 +80,7 @@ describe('stack-up', () => {
       ),
     );
     expect(r.values.boss).toMatchObject({ worstCase: 0.003, mean: expect.closeTo(0.751, 12) });
-    const slot = r.values.slot;
+    const slot = r.values.slot!;
     expect(slot.value).toBeCloseTo(1.25, 12);
     expect(slot.worstCase).toBeCloseTo(0.004, 12);
     expect(slot.mean).toBeCloseTo(1.249, 12);
@@ -105,15 +105,15 @@ describe('stack-up', () => {
         ],
         'mm',
       );
-    const base = solveModel(build(50, 60)).values.h;
+    const base = solveModel(build(50, 60)).values.h!;
     const e = 1e-6;
     const dr =
-      (solveModel(build(50 + e, 60)).values.h.value! -
-        solveModel(build(50 - e, 60)).values.h.value!) /
+      (solveModel(build(50 + e, 60)).values.h!.value! -
+        solveModel(build(50 - e, 60)).values.h!.value!) /
       (2 * e);
     const doff =
-      (solveModel(build(50, 60 + e)).values.h.value! -
-        solveModel(build(50, 60 - e)).values.h.value!) /
+      (solveModel(build(50, 60 + e)).values.h!.value! -
+        solveModel(build(50, 60 - e)).values.h!.value!) /
       (2 * e);
     const sens = Object.fromEntries(base.contributors.map((c) => [c.name, c.sensitivity]));
     expect(sens.r).toBeCloseTo(dr, 5);
@@ -153,7 +153,7 @@ describe('Monte Carlo', () => {
   it('reproduces the RSS spread of Shigley Example 1-3 with σ = t/3', () => {
     // With tᵢ = 3σᵢ, σ_w = 0.006/3 = 0.002 in (check-values §7.2).
     const r = solveModel(shigley, { monteCarlo: { samples: 20000, seed: 11 } });
-    const w = r.monteCarlo!.values.w;
+    const w = r.monteCarlo!.values.w!;
     expect(w.mean).toBeCloseTo(0.005, 4);
     expect(Math.abs(w.sigma - 0.002) / 0.002).toBeLessThan(0.03);
     expect(w.histogram.counts.reduce((p, c) => p + c, 0)).toBe(20000);
@@ -163,9 +163,9 @@ describe('Monte Carlo', () => {
   });
 
   it('gives the same numbers for the same seed and different ones for another', () => {
-    const a = solveModel(shigley, { monteCarlo: { samples: 500, seed: 3 } }).monteCarlo!.values.w;
+    const a = solveModel(shigley, { monteCarlo: { samples: 500, seed: 3 } }).monteCarlo!.values.w!;
     const b = solveModel(shigley, { monteCarlo: { samples: 500, seed: 3 } }).monteCarlo!.values.w;
-    const c = solveModel(shigley, { monteCarlo: { samples: 500, seed: 4 } }).monteCarlo!.values.w;
+    const c = solveModel(shigley, { monteCarlo: { samples: 500, seed: 4 } }).monteCarlo!.values.w!;
     expect(b).toEqual(a);
     expect(c.mean).not.toBe(a.mean);
   });
@@ -186,7 +186,7 @@ describe('Monte Carlo', () => {
     );
     const mc = r.monteCarlo!;
     expect(Object.keys(mc.values)).toEqual(['y']);
-    expect(mc.values.y.mean + mc.failed * 0).toBeLessThan(r.values.y.value!);
+    expect(mc.values.y!.mean + mc.failed * 0).toBeLessThan(r.values.y!.value!);
   });
 
   it('draws uniform and normal numbers from a seed', () => {

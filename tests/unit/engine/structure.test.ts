@@ -26,8 +26,8 @@ describe('analyseStructure', () => {
       [2, 0],
     ]);
     expect(s.blocks).toHaveLength(2);
-    expect(s.blocks[0].relations).toEqual([0, 1]);
-    expect([...s.blocks[0].unknowns].sort()).toEqual([0, 1]);
+    expect(s.blocks[0]!.relations).toEqual([0, 1]);
+    expect([...s.blocks[0]!.unknowns].sort()).toEqual([0, 1]);
     expect(s.blocks[1]).toEqual({ relations: [2], unknowns: [2] });
   });
 
@@ -39,7 +39,7 @@ describe('analyseStructure', () => {
       [2, 0],
     ]);
     expect(s.blocks).toHaveLength(1);
-    expect(s.blocks[0].relations).toEqual([0, 1, 2]);
+    expect(s.blocks[0]!.relations).toEqual([0, 1, 2]);
   });
 
   it('reports the under-determined part and how many more dimensions it needs', () => {
@@ -47,9 +47,9 @@ describe('analyseStructure', () => {
     const s = analyseStructure(2, 3, [[0, 1, 2], [1]]);
     expect(s.needs).toBe(1);
     expect(s.underdetermined).toHaveLength(1);
-    expect([...s.underdetermined[0].unknowns].sort()).toEqual([0, 2]);
-    expect(s.underdetermined[0].needs).toBe(1);
-    expect(s.underdetermined[0].measure).toHaveLength(1);
+    expect([...s.underdetermined[0]!.unknowns].sort()).toEqual([0, 2]);
+    expect(s.underdetermined[0]!.needs).toBe(1);
+    expect(s.underdetermined[0]!.measure).toHaveLength(1);
     expect(s.blocks.map((b) => b.unknowns)).toEqual([[1]]);
   });
 
@@ -66,7 +66,7 @@ describe('analyseStructure', () => {
   it('counts an unknown in no relation as needing one dimension', () => {
     const s = analyseStructure(0, 1, []);
     expect(s.needs).toBe(1);
-    expect(s.underdetermined[0].unknowns).toEqual([0]);
+    expect(s.underdetermined[0]!.unknowns).toEqual([0]);
   });
 
   it('reports redundant relations in the over-determined part', () => {
@@ -83,6 +83,6 @@ describe('analyseStructure', () => {
     const edges = Array.from({ length: n }, (_, i) => (i === 0 ? [0] : [i, i - 1]));
     const s = analyseStructure(n, n, edges);
     expect(s.blocks).toHaveLength(n);
-    expect(s.blocks[n - 1].unknowns).toEqual([n - 1]);
+    expect(s.blocks[n - 1]!.unknowns).toEqual([n - 1]);
   });
 });
