@@ -12,6 +12,7 @@ export async function findModel(db: DbOrTx, projectId: string) {
       revision: projectModels.revision,
       model: projectModels.model,
       result: projectModels.result,
+      features: projectModels.features,
       updatedAt: projectModels.updatedAt,
       updatedBy: users.name,
     })
@@ -47,18 +48,23 @@ export async function insertModel(
   db: DbOrTx,
   projectId: string,
   model: unknown,
-  result: unknown,
+  solved: { result: unknown; features?: unknown },
   userId: string,
 ) {
-  await db
-    .insert(projectModels)
-    .values({ projectId, revision: 0, model, result, updatedBy: userId });
+  await db.insert(projectModels).values({
+    projectId,
+    revision: 0,
+    model,
+    result: solved.result,
+    features: solved.features ?? null,
+    updatedBy: userId,
+  });
 }
 
 export async function writeModel(
   tx: Tx,
   projectId: string,
-  values: { revision: number; model: unknown; result: unknown; userId: string },
+  values: { revision: number; model: unknown; result: unknown; features?: unknown; userId: string },
 ) {
   await tx
     .update(projectModels)
@@ -66,6 +72,7 @@ export async function writeModel(
       revision: values.revision,
       model: values.model,
       result: values.result,
+      features: values.features ?? null,
       updatedBy: values.userId,
       updatedAt: sql`now()`,
     })

@@ -115,7 +115,7 @@ export function createMeasurementService(db: Db, models: ModelService) {
       () => `m${randomBytes(6).toString('hex')}`,
     );
     const changed = !isEmptyDiff(diffModels(stored.model, next));
-    const result = await models.solve(next);
+    const solved = await models.solveRevision(next);
 
     return db.transaction(async (tx) => {
       // The sheet first, then the model: every measurement takes the two locks in this order.
@@ -127,7 +127,7 @@ export function createMeasurementService(db: Db, models: ModelService) {
         userId,
         baseRevision: body.modelRevision,
         model: next,
-        result,
+        solved,
         // A re-measure that moves nothing writes no model revision.
         note: changed ? `${name} measured on “${sheet.title}”` : undefined,
       });

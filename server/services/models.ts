@@ -4,6 +4,7 @@ import {
   movedValues,
   summariseDiff,
   type FairsheetModel,
+  type FeaturesResult,
   type ModelDiff,
   type SolveResult,
 } from '@shared/engine';
@@ -65,7 +66,14 @@ interface ModelAnswer {
  * The current revision as the server reads it: GET /model's answer (`StoredModel` of
  * shared/api) with the whole stored result in place of its verdict.
  */
-export type CurrentModel = Omit<StoredModel, 'result'> & { result: SolveResult };
+export type CurrentModel = Omit<StoredModel, 'result'> & {
+  result: SolveResult;
+  /** The features evaluated with the revision's solve (null: saved before they were stored). */
+  features: FeaturesResult | null;
+};
+
+/** What one solve job answers for a revision: the model's result and its features. */
+export type RevisionSolve = { result: SolveResult; features: FeaturesResult };
 
 /**
  * `solver`: where models are solved (default: the process's pool), never on this thread; its
@@ -84,7 +92,7 @@ export function createModelService(
     userId: string,
   ) {
     const model = emptyModel(units);
-    await repo.insertModel(tx, projectId, model, await solver.solve(model), userId);
+    await repo.insertModel(tx, projectId, model, await solver.revision(model), userId);
     await repo.insertRevision(tx, {
       projectId,
       revision: 0,
@@ -102,6 +110,7 @@ export function createModelService(
       revision: row.revision,
       model: row.model as FairsheetModel,
       result: row.result as SolveResult,
+      features: (row.features as FeaturesResult | null) ?? null,
       updatedAt: row.updatedAt.toISOString(),
       updatedBy: row.updatedBy,
     };
@@ -137,7 +146,13 @@ export function createModelService(
     const stored = await current(projectId);
     // The browser solves the model itself (values, traces, stack-up charts); the answer carries
     // the server's verdict only, which keeps a 2,000-dimension model small.
-    const answer: StoredModel = { ...stored, result: stored.result && verdictOf(stored.result) };
+    const answer: StoredModel = {
+      revision: stored.revision,
+      model: stored.model,
+      result: stored.result && verdictOf(stored.result),
+      updatedAt: stored.updatedAt,
+      updatedBy: stored.updatedBy,
+    };
     const body = JSON.stringify(answer);
     return {
       etag: `"m${stored.revision}-${stored.updatedAt}"`,
@@ -162,16 +177,16 @@ export function createModelService(
     note?: string,
   ): Promise<SaveAnswer> {
     // Solved before the row lock is taken: a solve waiting for a thread holds no connection.
-    const result = await solver.solve(model);
+    const solved = await solver.revision(model);
     return db.transaction((tx) =>
-      writeRevision(tx, { projectId, userId, baseRevision, model, result, note }),
+      writeRevision(tx, { projectId, userId, baseRevision, model, solved, note }),
     );
   }
 
   /**
    * The inside of a save, for a transaction that writes more than the model (a measurement
    * writes its sheet too): locks the model row, refuses with 409 when `baseRevision` is stale,
-   * and writes `model` (solved as `result`) as the next revision with its history and activity
+   * and writes `model` (solved as `solved`) as the next revision with its history and activity
    * rows.
    */
   async function writeRevision(
@@ -181,11 +196,12 @@ export function createModelService(
       userId: string;
       baseRevision: number;
       model: FairsheetModel;
-      result: SolveResult;
+      solved: RevisionSolve;
       note?: string;
     },
   ): Promise<SaveAnswer> {
-    const { projectId, userId, baseRevision, model, result, note } = args;
+    const { projectId, userId, baseRevision, model, solved, note } = args;
+    const { result } = solved;
     const locked = await repo.lockModel(tx, projectId);
     if (!locked) throw notFound('The model');
     if (locked.revision !== baseRevision) {
@@ -200,7 +216,7 @@ export function createModelService(
       return { revision: locked.revision, result: slimResult(result), summary: 'no change' };
     const revision = locked.revision + 1;
     const summary = note ? `${note} (${summariseDiff(diff)})` : summariseDiff(diff);
-    await repo.writeModel(tx, projectId, { revision, model, result, userId });
+    await repo.writeModel(tx, projectId, { revision, model, ...solved, userId });
     await repo.insertRevision(tx, { projectId, revision, userId, summary, diff, model });
     await activity?.record(
       {
@@ -265,8 +281,8 @@ export function createModelService(
     revision,
     compare,
     restore,
-    /** A model's result, solved off this thread (or remembered from an earlier solve). */
-    solve: (model: unknown) => solver.solve(model),
+    /** A model's result and features in one job off this thread (or remembered). */
+    solveRevision: (model: unknown) => solver.revision(model),
   };
 }
 

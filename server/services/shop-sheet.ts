@@ -319,8 +319,10 @@ export function createShopSheetService(
   const solver = options.solver ?? defaultSolvePool();
   async function sheet(project: ProjectRow): Promise<ShopSheet> {
     const stored = await models.current(project.id);
+    // The features stored with the revision's solve; a revision saved before they were stored
+    // is evaluated once on the pool (and remembered there).
     const [features, reviews] = await Promise.all([
-      solver.features(stored.model),
+      stored.features ?? solver.features(stored.model),
       options.reviews ? options.reviews(project.id, stored) : {},
     ]);
     return buildShopSheet(

@@ -36,6 +36,11 @@ export interface SolvePool {
   solve(model: unknown, options?: ServerSolveOptions): Promise<SolveResult>;
   /** The result of `evaluateFeatures` (the shop sheet's positions, drills and speeds). */
   features(model: unknown): Promise<FeaturesResult>;
+  /**
+   * A revision's solve and features in one job, for a save to store; the two answers are then
+   * cached as `solve` and `features` would cache them.
+   */
+  revision(model: unknown): Promise<{ result: SolveResult; features: FeaturesResult }>;
   /** Jobs handed to a thread so far (answers from the cache are not jobs). */
   readonly jobs: number;
   /** Starts every thread; resolves once all are ready to take a job. */
@@ -308,6 +313,18 @@ export function createSolvePool(options: SolvePoolOptions = {}): SolvePool {
       return JSON.parse(
         await run({ kind: 'features', model, options: engineOptions }),
       ) as FeaturesResult;
+    },
+    async revision(model) {
+      const answer = JSON.parse(await run({ kind: 'revision', model, options: engineOptions })) as {
+        result: SolveResult;
+        features: FeaturesResult;
+      };
+      cache.set(fingerprint(solveSpec(model)), JSON.stringify(answer.result));
+      cache.set(
+        fingerprint({ kind: 'features', model, options: engineOptions }),
+        JSON.stringify(answer.features),
+      );
+      return answer;
     },
     get jobs() {
       return jobs;

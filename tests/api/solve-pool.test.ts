@@ -186,13 +186,33 @@ describe('a revision is solved once', () => {
     }
   });
 
-  it('the shop sheet evaluates a revision once, for its JSON, CSV and PDF', async () => {
+  it('the shop sheet reads the features stored with the revision: no job for its JSON, CSV and PDF, on any instance', async () => {
     const jobs = solver.jobs;
     await builder.get(url('/shop-sheet')).expect(200);
-    expect(solver.jobs).toBe(jobs + 1);
     await builder.get(url('/shop-sheet.csv')).expect(200);
     await builder.get(url('/shop-sheet.pdf')).expect(200);
+    expect(solver.jobs).toBe(jobs);
+    // An instance that never solved this revision reads the same stored answer.
+    const fresh = createSolvePool({ size: 1 });
+    const instance = await createTestApp({ databaseUrl: t.databaseUrl, solver: fresh });
+    try {
+      const c = new TestClient(instance.app);
+      expect((await c.login('pool.builder@example.com', 'correct horse battery')).status).toBe(200);
+      const sheet = await c.get(url('/shop-sheet')).expect(200);
+      expect(sheet.body.revision).toBe(2);
+      expect(fresh.jobs).toBe(0);
+    } finally {
+      await fresh.close();
+      await instance.close();
+    }
+  });
+
+  it('a save is one job: the solve and the features of its revision together', async () => {
+    const jobs = solver.jobs;
+    await builder.put(url('/model'), { revision: 2, model: shigley(30) }).expect(200);
+    expect(solver.jobs).toBe(jobs + 1);
     await builder.get(url('/shop-sheet')).expect(200);
+    await builder.get(url('/compare?from=2&to=3')).expect(200);
     expect(solver.jobs).toBe(jobs + 1);
   });
 });
