@@ -75,27 +75,30 @@ function assembleValues(
       values[d.name] = v;
       continue;
     }
-    const bi = blockOf[d.index];
+    // blockOf and x have an entry for every dimension; blockOf's is a block's index or −1.
+    const bi = blockOf[d.index]!;
+    const block = bi >= 0 ? blocks[bi] : undefined;
+    const value = x[d.index]!;
     const s: Sensitivity | undefined = sens[d.index];
-    if (bi >= 0 && blocks[bi].ok && valuesOnly && Number.isFinite(x[d.index])) {
+    if (block?.ok && valuesOnly && Number.isFinite(value)) {
       values[d.name] = {
-        value: x[d.index],
+        value,
         worstCase: null,
         rss: null,
         ...base,
-        from: blocks[bi].ids,
+        from: block.ids,
         contributors: [],
         trace: NO_TRACE(),
       };
       continue;
     }
-    if (bi < 0 || !blocks[bi].ok || !s || !Number.isFinite(x[d.index])) {
+    if (!block?.ok || !s || !Number.isFinite(value)) {
       values[d.name] = {
         value: null,
         worstCase: null,
         rss: null,
         ...base,
-        from: bi >= 0 ? blocks[bi].ids : [],
+        from: block ? block.ids : [],
         contributors: [],
         trace: NO_TRACE(),
       };
@@ -103,20 +106,20 @@ function assembleValues(
     }
     const st = stackUp(s, bands.halfBand, bands.shift);
     const v: ValueResult = {
-      value: x[d.index],
+      value,
       worstCase: st.worstCase,
       rss: st.rss,
       ...base,
-      from: blocks[bi].ids,
+      from: block.ids,
       contributors: st.terms.map((t) => ({
-        name: dims[t.index].name,
+        name: dims[t.index]!.name,
         sensitivity: t.sensitivity,
         share: t.share,
       })),
       trace: traces.block(bi),
     };
     if (st.meanShift !== 0) {
-      v.mean = x[d.index] + st.meanShift;
+      v.mean = value + st.meanShift;
       v.tolPlus = st.meanShift + st.worstCase;
       v.tolMinus = st.worstCase - st.meanShift;
     }
@@ -143,14 +146,14 @@ export function assembleResult(
   const { prep, structure, unknownDims } = sol;
   const dims = prep.dimensions;
   const values = assembleValues(sol, traces, sens, bands, valuesOnly);
-  const undetermined = structure.underdetermined.flatMap((g) =>
-    g.unknowns.map((u) => dims[unknownDims[u]].name),
-  );
+  // The structure's indices count the model's unknowns and relations.
+  const nameOf = (u: number) => dims[unknownDims[u]!]!.name;
+  const undetermined = structure.underdetermined.flatMap((g) => g.unknowns.map(nameOf));
   const openGroups = structure.underdetermined.map((g) => ({
-    unknowns: g.unknowns.map((u) => dims[unknownDims[u]].name),
+    unknowns: g.unknowns.map(nameOf),
     needs: g.needs,
-    measure: g.measure.map((u) => dims[unknownDims[u]].name),
-    relations: g.relations.map((r) => prep.relations[r].id),
+    measure: g.measure.map(nameOf),
+    relations: g.relations.map((r) => prep.relations[r]!.id),
   }));
   const { contradictions, checks } = reconciled;
   const status: SolveStatus = errors.length

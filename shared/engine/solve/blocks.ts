@@ -26,18 +26,18 @@ interface SolveContext {
 const now = (): number => (typeof performance !== 'undefined' ? performance.now() : Date.now());
 
 function converged(rels: readonly CompiledRelation[], x: Float64Array, F: Float64Array): boolean {
-  for (let i = 0; i < rels.length; i++) if (!nearlyEqual(F[i], 0, rels[i].scale(x))) return false;
+  for (let i = 0; i < rels.length; i++) if (!nearlyEqual(F[i]!, 0, rels[i]!.scale(x))) return false;
   return true;
 }
 
 function norm2(F: Float64Array): number {
   let s = 0;
-  for (let i = 0; i < F.length; i++) s += F[i] * F[i];
+  for (let i = 0; i < F.length; i++) s += F[i]! * F[i]!;
   return Math.sqrt(s);
 }
 
 function residuals(rels: readonly CompiledRelation[], x: Float64Array, F: Float64Array): void {
-  for (let i = 0; i < rels.length; i++) F[i] = rels[i].residual(x);
+  for (let i = 0; i < rels.length; i++) F[i] = rels[i]!.residual(x);
 }
 
 function describeNotFinite(
@@ -45,8 +45,8 @@ function describeNotFinite(
   rels: readonly CompiledRelation[],
   x: Float64Array,
 ): EngineError | null {
-  for (let i = 0; i < rels.length; i++) {
-    const d = rels[i].diagnose(x);
+  for (const [i, rel] of rels.entries()) {
+    const d = rel.diagnose(x);
     if (d)
       return {
         code: d.code === 'division-by-zero' ? 'division-by-zero' : 'not-finite',
@@ -71,7 +71,7 @@ function newtonStep(n: number, lin: { F: Float64Array; rows: SparseRow[] }): Flo
   const f = factorRows(n, lin.rows);
   if (!f) return null;
   const neg = new Float64Array(n);
-  for (let i = 0; i < n; i++) neg[i] = -lin.F[i];
+  for (let i = 0; i < n; i++) neg[i] = -lin.F[i]!;
   return f.solve(neg);
 }
 
@@ -90,22 +90,26 @@ function solveBlock(
   colOf: Int32Array,
   ctx: SolveContext,
 ): BlockFailure | null {
+  // A square block: n relations, n unknowns (F, d and base below have n entries); x and colOf
+  // have one entry per dimension.
   const n = rels.length;
   for (const rel of rels)
-    for (const v of rel.vars) if (colOf[v] < 0 && !Number.isFinite(x[v])) return {}; // upstream failed
+    for (const v of rel.vars) if (colOf[v]! < 0 && !Number.isFinite(x[v])) return {}; // upstream failed
   const what = () => describeBlock(ids, unknowns, names);
-  const linear = rels.every((r) => r.affine !== null || r.degreeIn((gi) => colOf[gi] >= 0) <= 1);
+  const linear = rels.every((r) => r.affine !== null || r.degreeIn((gi) => colOf[gi]! >= 0) <= 1);
   const F = new Float64Array(n);
 
   // Fast path: one affine relation, one unknown.
-  if (n === 1 && rels[0].affine) {
-    const rel = rels[0];
-    const { a, c } = rel.affine!;
+  const [first] = rels;
+  const [firstUnknown] = unknowns;
+  if (n === 1 && first?.affine && firstUnknown !== undefined) {
+    const { a, c } = first.affine;
     let coef = 0;
     let rest = c;
-    for (let j = 0; j < rel.vars.length; j++) {
-      if (colOf[rel.vars[j]] >= 0) coef += a[j];
-      else rest += a[j] * x[rel.vars[j]];
+    for (let j = 0; j < first.vars.length; j++) {
+      const v = first.vars[j]!;
+      if (colOf[v]! >= 0) coef += a[j]!;
+      else rest += a[j]! * x[v]!;
     }
     if (coef === 0 || !Number.isFinite(rest)) {
       return {
@@ -116,7 +120,7 @@ function solveBlock(
         },
       };
     }
-    x[unknowns[0]] = -rest / coef;
+    x[firstUnknown] = -rest / coef;
     return null;
   }
 
@@ -145,13 +149,13 @@ function solveBlock(
       };
     }
     const neg = new Float64Array(n);
-    for (let c = 0; c < n; c++) neg[c] = -lin.F[c];
+    for (let c = 0; c < n; c++) neg[c] = -lin.F[c]!;
     for (let pass = 0; pass < 3; pass++) {
       const d = factor.solve(neg);
-      for (let c = 0; c < n; c++) x[unknowns[c]] += d[c];
+      for (let c = 0; c < n; c++) x[unknowns[c]!]! += d[c]!;
       residuals(rels, x, F);
       if (converged(rels, x, F)) return null;
-      for (let c = 0; c < n; c++) neg[c] = -F[c];
+      for (let c = 0; c < n; c++) neg[c] = -F[c]!;
     }
     const left = maxAbs(F);
     return {
@@ -192,16 +196,17 @@ function solveBlock(
     const d = newtonStep(n, lin);
     if (!d) {
       // Singular Jacobian: nudge the unknowns off the singular point and try again.
-      for (let c = 0; c < n; c++)
-        x[unknowns[c]] +=
-          TOLERANCES.newtonNudge * (Math.abs(x[unknowns[c]]) + 1) * (c % 2 ? -1 : 1);
+      for (let c = 0; c < n; c++) {
+        const u = unknowns[c]!;
+        x[u]! += TOLERANCES.newtonNudge * (Math.abs(x[u]!) + 1) * (c % 2 ? -1 : 1);
+      }
       continue;
     }
-    const base = unknowns.map((u) => x[u]);
+    const base = unknowns.map((u) => x[u]!);
     let lambda = 1;
     let accepted = false;
     while (lambda > TOLERANCES.newtonMinStep) {
-      for (let c = 0; c < n; c++) x[unknowns[c]] = base[c] + lambda * d[c];
+      for (let c = 0; c < n; c++) x[unknowns[c]!] = base[c]! + lambda * d[c]!;
       residuals(rels, x, trial);
       const tn = norm2(trial);
       if (
@@ -214,7 +219,7 @@ function solveBlock(
       lambda /= 2;
     }
     if (!accepted) {
-      for (let c = 0; c < n; c++) x[unknowns[c]] = base[c];
+      for (let c = 0; c < n; c++) x[unknowns[c]!] = base[c]!;
       break;
     }
   }
@@ -258,10 +263,10 @@ function polish(
   const d = newtonStep(n, lin);
   if (!d) return;
   const before = norm2(lin.F);
-  const base = unknowns.map((u) => x[u]);
-  for (let c = 0; c < n; c++) x[unknowns[c]] = base[c] + d[c];
+  const base = unknowns.map((u) => x[u]!);
+  for (let c = 0; c < n; c++) x[unknowns[c]!] = base[c]! + d[c]!;
   residuals(rels, x, trial);
-  if (!(norm2(trial) <= before)) for (let c = 0; c < n; c++) x[unknowns[c]] = base[c];
+  if (!(norm2(trial) <= before)) for (let c = 0; c < n; c++) x[unknowns[c]!] = base[c]!;
 }
 
 export interface SolvedBlock {
@@ -298,7 +303,10 @@ export function solveStructure(prep: PreparedModel, options: SolveOptions): Solu
   }
   const edges = prep.relations.map((r) => {
     const e: number[] = [];
-    for (const v of r.compiled.vars) if (unknownOf[v] >= 0) e.push(unknownOf[v]);
+    for (const v of r.compiled.vars) {
+      const u = unknownOf[v]!;
+      if (u >= 0) e.push(u);
+    }
     return e;
   });
   const structure = analyseStructure(prep.relations.length, unknownDims.length, edges);
@@ -312,10 +320,11 @@ export function solveStructure(prep: PreparedModel, options: SolveOptions): Solu
   const names = dims.map((d) => d.name);
   const errors: EngineError[] = [];
   const blocks: Solution['blocks'] = [];
+  // The structure's indices count the relations and unknowns it was given.
   for (const b of structure.blocks) {
-    const relations = b.relations.map((r) => prep.relations[r].compiled);
-    const ids = b.relations.map((r) => prep.relations[r].id);
-    const unknowns = b.unknowns.map((u) => unknownDims[u]);
+    const relations = b.relations.map((r) => prep.relations[r]!.compiled);
+    const ids = b.relations.map((r) => prep.relations[r]!.id);
+    const unknowns = b.unknowns.map((u) => unknownDims[u]!);
     unknowns.forEach((u, c) => (colOf[u] = c));
     const failure = solveBlock(ids, relations, unknowns, names, x, colOf, ctx);
     unknowns.forEach((u) => (colOf[u] = -1));
@@ -325,7 +334,7 @@ export function solveStructure(prep: PreparedModel, options: SolveOptions): Solu
     }
     blocks.push({ relations, ids, relationIndices: b.relations, unknowns, ok: !failure });
   }
-  for (const u of structure.underdetermined.flatMap((g) => g.unknowns)) x[unknownDims[u]] = NaN;
+  for (const u of structure.underdetermined.flatMap((g) => g.unknowns)) x[unknownDims[u]!] = NaN;
   return { prep, structure, unknownDims, blocks, x, errors };
 }
 

@@ -25,15 +25,20 @@ export function monteCarloOf(
   const targets = wanted
     .filter((d) => Number.isFinite(x[d.index]))
     .map((d) => ({ name: d.name, index: d.index }));
-  // Only the blocks the targets depend on are re-solved per sample.
+  // Only the blocks the targets depend on are re-solved per sample. blockOf has an entry for
+  // every dimension, each a block's index or −1.
   const need = new Uint8Array(blocks.length);
-  const stack = targets.map((t) => blockOf[t.index]).filter((b) => b >= 0);
+  const stack = targets.map((t) => blockOf[t.index]!).filter((b) => b >= 0);
   while (stack.length) {
     const b = stack.pop()!;
     if (need[b]) continue;
     need[b] = 1;
-    for (const rel of blocks[b].relations)
-      for (const v of rel.vars) if (blockOf[v] >= 0 && !need[blockOf[v]]) stack.push(blockOf[v]);
+    for (const rel of blocks[b]!.relations) {
+      for (const v of rel.vars) {
+        const upstream = blockOf[v]!;
+        if (upstream >= 0 && !need[upstream]) stack.push(upstream);
+      }
+    }
   }
   const neededBlocks = blocks.filter((_, i) => need[i]);
   const givens = dims

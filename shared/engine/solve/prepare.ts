@@ -242,7 +242,8 @@ export function prepareModel(model: FairsheetModel): PreparedModel {
     if (!r.enabled) continue;
     try {
       const compiled = bindRelation(parseRelation(r.expr), resolve, unit);
-      if (compiled.vars.some((i) => dimensions[i].broken)) continue;
+      // resolve answered with indices of `dimensions`.
+      if (compiled.vars.some((i) => dimensions[i]!.broken)) continue;
       relations.push({ id: r.id, expr: r.expr, compiled });
     } catch (e) {
       if (!(e instanceof ExpressionError)) throw e;

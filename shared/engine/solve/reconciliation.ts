@@ -28,8 +28,9 @@ export function reconcileSolution(
   const { prep, structure, x } = sol;
   const dims = prep.dimensions;
   const redundant: RedundantRelation[] = [];
+  // The structure's indices count the model's relations.
   for (const r of valuesOnly ? [] : structure.redundant) {
-    const pr = prep.relations[r];
+    const pr = prep.relations[r]!;
     const rel = pr.compiled;
     if (rel.vars.some((v) => !Number.isFinite(x[v]))) continue; // an input failed upstream
     const residual = rel.residual(x);
@@ -48,7 +49,7 @@ export function reconcileSolution(
     const t = traces.of([rel], [r], -1);
     redundant.push({
       id: pr.id,
-      relations: traces.sortRelations(t.rs).map((i) => prep.relations[i].id),
+      relations: traces.sortRelations(t.rs).map((i) => prep.relations[i]!.id),
       residual,
       scale: rel.scale(x),
       gradient,
@@ -59,6 +60,6 @@ export function reconcileSolution(
     halfBand: bands.halfBand,
     shift: bands.shift,
     names: dims.map((d) => d.name),
-    protectedValue: (i) => dims[i].kind === 'asbuilt',
+    protectedValue: (i) => dims[i]?.kind === 'asbuilt',
   });
 }

@@ -85,10 +85,12 @@ export class Traces {
           }
           continue;
         }
-        const bi = blockOf[v];
-        if (bi < 0 || bi === selfBlock || !relSets[bi] || blockStamp[bi] === tick) continue;
+        // blockOf has an entry for every dimension; relSets and inputSets one for every block.
+        const bi = blockOf[v]!;
+        const upstream = relSets[bi];
+        if (bi < 0 || bi === selfBlock || !upstream || blockStamp[bi] === tick) continue;
         blockStamp[bi] = tick;
-        for (const r of relSets[bi]!) {
+        for (const r of upstream) {
           if (relStamp[r] !== tick) {
             relStamp[r] = tick;
             rs.push(r);
@@ -113,20 +115,25 @@ export class Traces {
 
   /** Relation indices in solving order (a new array). */
   sortRelations(s: readonly number[]): number[] {
-    return [...s].sort((p, q) => this.order[p] - this.order[q]);
+    return [...s].sort((p, q) => this.order[p]! - this.order[q]!);
   }
 
   /** The trace of a solved block's unknowns: one object shared by all of them. */
   block(bi: number): ValueTrace {
     const { prep } = this.sol;
     const dims = prep.dimensions;
+    // The sets hold indices of the model's relations and dimensions.
     return (this.traces[bi] ??= {
-      relations: this.sortRelations(this.relSets[bi]!).map(
-        (i) => (this.relEntry[i] ??= { id: prep.relations[i].id, expr: prep.relations[i].expr }),
-      ),
+      relations: this.sortRelations(this.relSets[bi]!).map((i) => {
+        const { id, expr } = prep.relations[i]!;
+        return (this.relEntry[i] ??= { id, expr });
+      }),
       inputs: [...this.inputSets[bi]!]
         .sort((p, q) => p - q)
-        .map((i) => (this.inputEntry[i] ??= { name: dims[i].name, value: dims[i].value })),
+        .map((i) => {
+          const { name, value } = dims[i]!;
+          return (this.inputEntry[i] ??= { name, value });
+        }),
     });
   }
 }
