@@ -119,7 +119,7 @@ describe('part rules', () => {
 
   it('replaces a renamed feature in place and takes a part’s features out with it', () => {
     const m = model();
-    putFeature(m, { ...m.features![0], id: 'g1' }, 'f1');
+    putFeature(m, { ...m.features![0]!, id: 'g1' }, 'f1');
     expect(m.features!.map((f) => f.id)).toEqual(['g1']);
     dropPart(m, 'plate');
     expect(m.parts).toEqual([]);
@@ -169,7 +169,7 @@ describe('the parts store', () => {
     store.solveNow();
     const f1 = usePartsStore().evaluated.features.find((f) => f.id === 'f1');
     // x = a = 1, y = b = 2 (the dimensions above).
-    expect(f1?.rows[0].x.value).toBeCloseTo(1, 12);
-    expect(f1?.rows[0].y.value).toBeCloseTo(2, 12);
+    expect(f1?.rows[0]!.x.value).toBeCloseTo(1, 12);
+    expect(f1?.rows[0]!.y.value).toBeCloseTo(2, 12);
   });
 });

@@ -88,15 +88,15 @@ beforeEach(() => {
 describe('the model store', () => {
   it('undo steps back one edit at a time, and the edits of one form are one step', async () => {
     const { models } = await openBoth();
-    models.edit((m) => void (m.dimensions[0].label = 'f'), 'form a');
-    models.edit((m) => void (m.dimensions[0].label = 'fo'), 'form a');
-    models.edit((m) => void (m.dimensions[0].label = 'foot'), 'form a');
+    models.edit((m) => void (m.dimensions[0]!.label = 'f'), 'form a');
+    models.edit((m) => void (m.dimensions[0]!.label = 'fo'), 'form a');
+    models.edit((m) => void (m.dimensions[0]!.label = 'foot'), 'form a');
     models.removeDimension('b');
     expect(models.dirty).toBe(true);
     models.undo();
     expect(models.model.dimensions.map((d) => d.name)).toEqual(['a', 'b']);
     models.undo();
-    expect(models.model.dimensions[0].label).toBeUndefined();
+    expect(models.model.dimensions[0]!.label).toBeUndefined();
     expect(models.canUndo).toBe(false);
   });
 
@@ -135,7 +135,7 @@ describe('the model store', () => {
     answer({ revision: 8, result: {}, summary: '' });
     await Promise.all([first, second]);
     expect(api.modelSave).toHaveBeenCalledTimes(2);
-    const [, revision, sent] = api.modelSave.mock.calls[1];
+    const [, revision, sent] = api.modelSave.mock.calls[1]!;
     expect(revision).toBe(8);
     expect(sent.dimensions.map((d: { name: string }) => d.name)).toEqual(['a', 'b', 'c', 'd']);
     expect(models.revision).toBe(9);
@@ -152,7 +152,7 @@ describe('the sheets store', () => {
       .mockImplementationOnce(async (_p, _s, { revision, ...body }) => sheet(revision + 1, body));
     await sheets.save();
     expect(api.sheetUpdate).toHaveBeenCalledTimes(2);
-    const body = api.sheetUpdate.mock.calls[1][2];
+    const body = api.sheetUpdate.mock.calls[1]![2];
     expect(body.revision).toBe(4);
     expect(body.pins.map((p: { label: string }) => p.label)).toEqual(['theirs', 'mine']);
     expect(sheets.current?.pins.map((p) => p.label)).toEqual(['theirs', 'mine']);
@@ -173,9 +173,9 @@ describe('the sheets store', () => {
     );
     await sheets.save();
     expect(sheets.conflict?.clashes).toEqual(['pins p1']);
-    expect(sheets.current?.pins[0].x).toBe(20);
+    expect(sheets.current?.pins[0]!.x).toBe(20);
     sheets.takeTheirs();
-    expect(sheets.current?.pins[0].x).toBe(10);
+    expect(sheets.current?.pins[0]!.x).toBe(10);
     expect(sheets.current?.revision).toBe(4);
     expect(sheets.saveState).toBe('saved');
   });
@@ -225,7 +225,7 @@ describe('a measurement', () => {
     expect(error).toBe('');
     // The pending pin label went first, so the server measured what the builder sees.
     expect(api.sheetUpdate.mock.invocationCallOrder[0]).toBeLessThan(
-      api.sheetMeasure.mock.invocationCallOrder[0],
+      api.sheetMeasure.mock.invocationCallOrder[0]!,
     );
     expect(api.sheetMeasure).toHaveBeenCalledWith(projectId, sheetId, {
       sheetRevision: 4,
@@ -275,7 +275,7 @@ describe('a measurement', () => {
       .mockResolvedValueOnce(answer('gap'));
     expect(await sheets.measure({ from: 'pa', to: 'pb', name: 'gap', label: '' })).toBe('');
     expect(api.sheetMeasure).toHaveBeenCalledTimes(2);
-    expect(api.sheetMeasure.mock.calls[1][2].modelRevision).toBe(8);
+    expect(api.sheetMeasure.mock.calls[1]![2].modelRevision).toBe(8);
     expect(models.revision).toBe(8);
   });
 

@@ -31,8 +31,8 @@ function manualSaves() {
   return {
     save,
     calls,
-    answer: (i: number, revision: number) => calls[i].settle({ revision }, true),
-    refuse: (i: number, err: unknown) => calls[i].settle(err, false),
+    answer: (i: number, revision: number) => calls[i]!.settle({ revision }, true),
+    refuse: (i: number, err: unknown) => calls[i]!.settle(err, false),
   };
 }
 
@@ -76,8 +76,8 @@ describe('undo by edit', () => {
   it('edits of one group in a row are one undo step; another group or an undo starts a new one', () => {
     const { doc, working } = setup(sheet([pin('p1', 0)]));
     // A drag reports each position; the drag is one edit.
-    for (const x of [1, 2, 3]) doc.edit((d) => void (d.pins[0].x = x), 'drag p1');
-    doc.edit((d) => void (d.pins[0].label = 'bore'), 'label p1');
+    for (const x of [1, 2, 3]) doc.edit((d) => void (d.pins[0]!.x = x), 'drag p1');
+    doc.edit((d) => void (d.pins[0]!.label = 'bore'), 'label p1');
     expect(working().pins[0]).toMatchObject({ x: 3, label: 'bore' });
     doc.undo();
     expect(working().pins[0]).toMatchObject({ x: 3, label: '' });
@@ -85,16 +85,16 @@ describe('undo by edit', () => {
     expect(working().pins[0]).toMatchObject({ x: 0, label: '' });
     expect(doc.state().canUndo).toBe(false);
     doc.redo();
-    expect(working().pins[0].x).toBe(3);
+    expect(working().pins[0]!.x).toBe(3);
     // After an undo the same group starts a new step rather than joining the old one.
-    doc.edit((d) => void (d.pins[0].x = 5), 'drag p1');
+    doc.edit((d) => void (d.pins[0]!.x = 5), 'drag p1');
     doc.undo();
-    expect(working().pins[0].x).toBe(3);
+    expect(working().pins[0]!.x).toBe(3);
   });
 
   it('an edit that changes nothing makes no step and nothing to save', () => {
     const { doc } = setup(sheet([pin('p1', 0)]));
-    doc.edit((d) => void (d.pins[0].x = 0));
+    doc.edit((d) => void (d.pins[0]!.x = 0));
     expect(doc.state()).toMatchObject({ canUndo: false, unsaved: 0, saveState: 'saved' });
   });
 });
@@ -117,8 +117,8 @@ describe('the save queue', () => {
     await settle();
     // The two saves asked for while the first was in flight are one, with both edits.
     expect(saves.calls).toHaveLength(2);
-    expect(saves.calls[1].revision).toBe(5);
-    expect(saves.calls[1].doc.pins.map((p) => p.id)).toEqual(['a', 'b', 'c']);
+    expect(saves.calls[1]!.revision).toBe(5);
+    expect(saves.calls[1]!.doc.pins.map((p) => p.id)).toEqual(['a', 'b', 'c']);
     saves.answer(1, 6);
     await Promise.all([second, third]);
     expect(doc.state()).toMatchObject({ revision: 6, unsaved: 0, saveState: 'saved' });
@@ -146,7 +146,7 @@ describe('the save queue', () => {
       expect(saves.calls).toHaveLength(0);
       await vi.advanceTimersByTimeAsync(300);
       expect(saves.calls).toHaveLength(1);
-      expect(saves.calls[0].doc.pins).toHaveLength(2);
+      expect(saves.calls[0]!.doc.pins).toHaveLength(2);
     } finally {
       vi.useRealTimers();
     }
@@ -156,15 +156,15 @@ describe('the save queue', () => {
 describe('a 409', () => {
   it('merges changes to different pins and saves both, never dropping either side', async () => {
     const { doc, saves, onMerged, working } = setup(sheet([pin('p1', 0), pin('p2', 0)]));
-    doc.edit((d) => void (d.pins[1].x = 20));
+    doc.edit((d) => void (d.pins[1]!.x = 20));
     const save = doc.save();
     // Someone else moved p1 and added p3 at revision 5.
     saves.refuse(0, new Stale(5, sheet([pin('p1', 10), pin('p2', 0), pin('p3', 30)])));
     await settle();
     expect(onMerged).toHaveBeenCalledOnce();
     expect(saves.calls).toHaveLength(2);
-    expect(saves.calls[1].revision).toBe(5);
-    expect(saves.calls[1].doc.pins.map((p) => [p.id, p.x])).toEqual([
+    expect(saves.calls[1]!.revision).toBe(5);
+    expect(saves.calls[1]!.doc.pins.map((p) => [p.id, p.x])).toEqual([
       ['p1', 10],
       ['p2', 20],
       ['p3', 30],
@@ -177,19 +177,19 @@ describe('a 409', () => {
 
   it('asks when both moved the same pin to different places; either answer is taken', async () => {
     const { doc, saves, working } = setup(sheet([pin('p1', 0)]));
-    doc.edit((d) => void (d.pins[0].x = 20));
+    doc.edit((d) => void (d.pins[0]!.x = 20));
     const save = doc.save();
     saves.refuse(0, new Stale(5, sheet([pin('p1', 10)])));
     await expect(save).rejects.toBeInstanceOf(Stale);
     const { conflict } = doc.state();
     expect(conflict).toMatchObject({ currentRevision: 5, clashes: ['pins p1'] });
     // Nothing is dropped while the builder decides, and nothing more is sent.
-    expect(working().pins[0].x).toBe(20);
+    expect(working().pins[0]!.x).toBe(20);
     await doc.save();
     expect(saves.calls).toHaveLength(1);
 
     doc.keepMine();
-    expect(working().pins[0].x).toBe(20);
+    expect(working().pins[0]!.x).toBe(20);
     expect(doc.state()).toMatchObject({ revision: 5, unsaved: 1, conflict: null });
     const again = doc.save();
     expect(saves.calls[1]).toMatchObject({ revision: 5 });
@@ -201,7 +201,7 @@ describe('a 409', () => {
     const { doc, saves, onMerged, working } = setup(sheet([pin('p1', 0), pin('p2', 0)]), {
       onConflict: 'ask',
     });
-    doc.edit((d) => void (d.pins[1].x = 20));
+    doc.edit((d) => void (d.pins[1]!.x = 20));
     const save = doc.save();
     saves.refuse(0, new Stale(5, sheet([pin('p1', 10), pin('p2', 0)])));
     await expect(save).rejects.toBeInstanceOf(Stale);
@@ -214,7 +214,7 @@ describe('a 409', () => {
 
   it('an undo after a merge takes back only this browser’s edit', async () => {
     const { doc, saves, working } = setup(sheet([pin('p1', 0), pin('p2', 0)]));
-    doc.edit((d) => void (d.pins[1].x = 20));
+    doc.edit((d) => void (d.pins[1]!.x = 20));
     const save = doc.save();
     saves.refuse(0, new Stale(5, sheet([pin('p1', 10), pin('p2', 0)])));
     await settle();
@@ -228,17 +228,17 @@ describe('a 409', () => {
 describe('a server operation taken in (adopt)', () => {
   it('becomes the base, keeps unsaved edits on top, and is one undo step', () => {
     const { doc, working } = setup(sheet([pin('p1', 0)]));
-    doc.edit((d) => void (d.pins[0].label = 'mine'));
+    doc.edit((d) => void (d.pins[0]!.label = 'mine'));
     const fromServer = sheet([pin('p1', 0)]);
     fromServer.measurements = [{ id: 'm1', from: 'p1', to: 'p1', dimension: 'x' }];
     doc.adopt(5, fromServer, { undoable: true });
     expect(doc.revision).toBe(5);
     expect(working().measurements).toHaveLength(1);
-    expect(working().pins[0].label).toBe('mine');
-    expect(doc.base().pins[0].label).toBe('');
+    expect(working().pins[0]!.label).toBe('mine');
+    expect(doc.base().pins[0]!.label).toBe('');
     doc.undo();
     expect(working().measurements).toHaveLength(0);
-    expect(working().pins[0].label).toBe('mine');
+    expect(working().pins[0]!.label).toBe('mine');
   });
 });
 

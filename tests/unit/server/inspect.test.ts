@@ -11,8 +11,8 @@ describe('opening PDFs on the server', () => {
     expect(mimeType).toBe('application/pdf');
     expect(pages).toHaveLength(2);
     const scale = pdfFrameDpi / 72;
-    expect(pages[0].widthPx).toBeCloseTo(595.28 * scale, 0);
-    expect(pages[1].heightPx).toBeCloseTo(841.89 * scale, 0);
+    expect(pages[0]!.widthPx).toBeCloseTo(595.28 * scale, 0);
+    expect(pages[1]!.heightPx).toBeCloseTo(841.89 * scale, 0);
   });
 
   it("leaves the server's own JSON.stringify and Array.prototype.push native (pdf.js's polyfills stay on its thread)", async () => {

@@ -27,12 +27,12 @@ describe('the demo model', () => {
     // Same spacing to 1e-12 in: both sides are written from the same dimensions.
     expect(
       Math.abs(
-        hbAft[0].x.value! - hbFwd[0].x.value! - (frameAft[0].x.value! - frameFwd[0].x.value!),
+        hbAft[0]!.x.value! - hbFwd[0]!.x.value! - (frameAft[0]!.x.value! - frameFwd[0]!.x.value!),
       ),
     ).toBeLessThanOrEqual(1e-12);
     expect(
       Math.abs(
-        hbFwd[1].y.value! - hbFwd[0].y.value! - (frameFwd[1].y.value! - frameFwd[0].y.value!),
+        hbFwd[1]!.y.value! - hbFwd[0]!.y.value! - (frameFwd[1]!.y.value! - frameFwd[0]!.y.value!),
       ),
     ).toBeLessThanOrEqual(1e-12);
   });

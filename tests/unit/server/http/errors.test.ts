@@ -74,7 +74,7 @@ describe('isDatabaseUnavailable, on the errors node-postgres really raises', () 
     for (const [code, text] of [
       ['57P03', 'the database system is shutting down'],
       ['57P01', 'terminating connection due to administrator command'],
-    ]) {
+    ] as const) {
       const port = await fakeServer((socket) =>
         socket.once('data', () => socket.end(errorResponse(code, text))),
       );
@@ -152,7 +152,7 @@ describe('errorHandler', () => {
       error: { code: 'internal', message: 'Something went wrong on the server.' },
     });
     expect(res.text).not.toMatch(/secret|at .*\.ts/);
-    expect((logged[0][1] as Error).stack).toMatch(/secret detail/);
+    expect((logged[0]![1] as Error).stack).toMatch(/secret detail/);
   });
 
   it('a database that cannot be reached answers 503 unavailable with Retry-After, and is not logged as unexpected', async () => {
@@ -239,6 +239,6 @@ describe('a file storage that cannot be reached', () => {
       code: 'unavailable',
       message: 'The file storage is not answering. Try again in a moment.',
     });
-    expect(logged[0][0]).toBe('[server] file storage not answering:');
+    expect(logged[0]![0]).toBe('[server] file storage not answering:');
   }, 60_000);
 });

@@ -42,10 +42,10 @@ describe('the solve pool', () => {
     const p = pool({ size: 1 });
     const result = await p.solve(shigley);
     expect(result.status).toBe('solved');
-    expect(result.values.w.value).toBeCloseTo(0.005, 9);
+    expect(result.values.w!.value).toBeCloseTo(0.005, 9);
     expect(p.jobs).toBe(1);
     const reordered = Object.fromEntries(Object.entries(shigley).reverse());
-    expect((await p.solve(reordered)).values.w.value).toBeCloseTo(0.005, 9);
+    expect((await p.solve(reordered)).values.w!.value).toBeCloseTo(0.005, 9);
     expect(p.jobs).toBe(1);
     // Other options are another question: a Monte Carlo is a job of its own.
     await p.solve(shigley, { monteCarlo: { samples: 100, seed: 1 } });
