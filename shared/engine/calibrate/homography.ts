@@ -11,11 +11,10 @@ import {
   DEFAULT_PICK_ERROR_PX,
   type ControlPoint,
   type HomographyCalibration,
+  type Matrix3,
   type PlanePoint,
   type SheetPoint,
 } from './types';
-
-type Mat3 = readonly number[];
 
 /**
  * Solves A·x = b with the engine's one LU solve. Answers undefined when a pivot falls below
@@ -26,30 +25,36 @@ function solveDense(a: number[][], b: number[], relTol: number): number[] | unde
   return factor ? Array.from(factor.solve(b)) : undefined;
 }
 
-function mul3(a: Mat3, b: Mat3): number[] {
-  const out = new Array<number>(9).fill(0);
+function mul3(a: Matrix3, b: Matrix3): Matrix3 {
+  const out: [...Matrix3] = [0, 0, 0, 0, 0, 0, 0, 0, 0];
   for (let i = 0; i < 3; i++)
     for (let j = 0; j < 3; j++)
-      for (let k = 0; k < 3; k++) out[3 * i + j] += a[3 * i + k] * b[3 * k + j];
+      for (let k = 0; k < 3; k++) out[3 * i + j]! += a[3 * i + k]! * b[3 * k + j]!;
   return out;
 }
 
-function invert3(m: Mat3): number[] | undefined {
+/** Each entry of a 3×3 matrix through `f` (`map` would answer a plain array). */
+function map3(m: Matrix3, f: (v: number) => number): Matrix3 {
+  const [a, b, c, d, e, g, h, i, j] = m;
+  return [f(a), f(b), f(c), f(d), f(e), f(g), f(h), f(i), f(j)];
+}
+
+function invert3(m: Matrix3): Matrix3 | undefined {
   const [a, b, c, d, e, f, g, h, i] = m;
   // Cofactors, transposed: the adjugate, row-major.
   // prettier-ignore
-  const co = [
+  const co: Matrix3 = [
     e * i - f * h, c * h - b * i, b * f - c * e,
     f * g - d * i, a * i - c * g, c * d - a * f,
     d * h - e * g, b * g - a * h, a * e - b * d,
   ];
   const det = a * co[0] + b * co[3] + c * co[6];
   if (!Number.isFinite(det) || det === 0) return undefined;
-  return co.map((v) => v / det);
+  return map3(co, (v) => v / det);
 }
 
-function scaleToUnitCorner(m: number[]): number[] {
-  return m.map((v) => v / m[8]);
+function scaleToUnitCorner(m: Matrix3): Matrix3 {
+  return map3(m, (v) => v / m[8]);
 }
 
 /**
@@ -57,7 +62,7 @@ function scaleToUnitCorner(m: number[]): number[] {
  * it is √2. Conditioning the DLT this way is what makes its answer trustworthy in pixels of
  * order 10³ (Hartley & Zisserman §4.4).
  */
-function normaliser(points: readonly (SheetPoint | PlanePoint)[]): number[] {
+function normaliser(points: readonly (SheetPoint | PlanePoint)[]): Matrix3 {
   const n = points.length;
   const cx = points.reduce((s, p) => s + p.x, 0) / n;
   const cy = points.reduce((s, p) => s + p.y, 0) / n;
@@ -66,7 +71,7 @@ function normaliser(points: readonly (SheetPoint | PlanePoint)[]): number[] {
   return [k, 0, -k * cx, 0, k, -k * cy, 0, 0, 1];
 }
 
-function applyMat(m: Mat3, p: SheetPoint | PlanePoint): { x: number; y: number; w: number } {
+function applyMat(m: Matrix3, p: SheetPoint | PlanePoint): { x: number; y: number; w: number } {
   const w = m[6] * p.x + m[7] * p.y + m[8];
   return {
     x: (m[0] * p.x + m[1] * p.y + m[2]) / w,
@@ -82,7 +87,7 @@ function findCollinearTriple(points: readonly { x: number; y: number }[]): numbe
   for (let i = 0; i < points.length; i++)
     for (let j = i + 1; j < points.length; j++)
       for (let k = j + 1; k < points.length; k++) {
-        const [p, q, r] = [points[i], points[j], points[k]];
+        const [p, q, r] = [points[i]!, points[j]!, points[k]!];
         const cross = (q.x - p.x) * (r.y - p.y) - (q.y - p.y) * (r.x - p.x);
         if (Math.abs(cross) / 2 < COLLINEAR_AREA) return [i, j, k];
       }
@@ -103,14 +108,15 @@ function findCrossedOrder(
   src: readonly { x: number; y: number }[],
   dst: readonly { x: number; y: number }[],
 ): number[] | undefined {
-  const area = (p: { x: number; y: number }[]) =>
-    ((p[1].x - p[0].x) * (p[2].y - p[0].y) - (p[1].y - p[0].y) * (p[2].x - p[0].x)) / 2;
+  type Point = { x: number; y: number };
+  const area = (p: Point, q: Point, r: Point) =>
+    ((q.x - p.x) * (r.y - p.y) - (q.y - p.y) * (r.x - p.x)) / 2;
   let sense = 0;
   for (let i = 0; i < src.length; i++)
     for (let j = i + 1; j < src.length; j++)
       for (let k = j + 1; k < src.length; k++) {
-        const a = area([src[i], src[j], src[k]]);
-        const b = area([dst[i], dst[j], dst[k]]);
+        const a = area(src[i]!, src[j]!, src[k]!);
+        const b = area(dst[i]!, dst[j]!, dst[k]!);
         if (Math.abs(a) < ORIENTATION_AREA || Math.abs(b) < ORIENTATION_AREA) continue;
         const s = Math.sign(a) * Math.sign(b);
         if (sense === 0) sense = s;
@@ -194,7 +200,7 @@ export function fitHomography(
   const rows: number[][] = [];
   const rhs: number[] = [];
   ns.forEach((p, i) => {
-    const q = nd[i];
+    const q = nd[i]!; // ns and nd are the same controls, sheet and plane side
     rows.push([p.x, p.y, 1, 0, 0, 0, -q.x * p.x, -q.x * p.y]);
     rhs.push(q.x);
     rows.push([0, 0, 0, p.x, p.y, 1, -q.y * p.x, -q.y * p.y]);
@@ -207,9 +213,11 @@ export function fitHomography(
     // Normal equations AᵀA·h = Aᵀb: squares the condition number, which the normalisation
     // above keeps small (order 10 for sensible point spreads).
     const ata = Array.from({ length: 8 }, (_, i) =>
-      Array.from({ length: 8 }, (_, j) => rows.reduce((s, r) => s + r[i] * r[j], 0)),
+      Array.from({ length: 8 }, (_, j) => rows.reduce((s, r) => s + r[i]! * r[j]!, 0)),
     );
-    const atb = Array.from({ length: 8 }, (_, i) => rows.reduce((s, r, k) => s + r[i] * rhs[k], 0));
+    const atb = Array.from({ length: 8 }, (_, i) =>
+      rows.reduce((s, r, k) => s + r[i]! * rhs[k]!, 0),
+    );
     h = solveDense(ata, atb, TOLERANCES.normalEquationsPivot);
   }
   if (!h) {
@@ -219,8 +227,10 @@ export function fitHomography(
       { points: controls.map((_, i) => i) },
     );
   }
-  const tdInv = invert3(td) as number[];
-  const matrix = scaleToUnitCorner(mul3(mul3(tdInv, [...h, 1]), ts));
+  const tdInv = invert3(td)!; // a normaliser scales by k > 0: always invertible
+  // The eight unknowns of the 8-column solve, and h33 = 1.
+  const dlt: Matrix3 = [h[0]!, h[1]!, h[2]!, h[3]!, h[4]!, h[5]!, h[6]!, h[7]!, 1];
+  const matrix = scaleToUnitCorner(mul3(mul3(tdInv, dlt), ts));
   const inverse = invert3(matrix);
   if (!inverse || !matrix.every(Number.isFinite)) {
     throw new CalibrationError('degenerate-points', 'These points do not fix a perspective', {
@@ -254,7 +264,7 @@ export function fitHomography(
   };
 }
 
-export function applyChecked(m: Mat3, p: SheetPoint | PlanePoint): PlanePoint {
+export function applyChecked(m: Matrix3, p: SheetPoint | PlanePoint): PlanePoint {
   assertFinitePoint(p, 'Point');
   const q = applyMat(m, p);
   const scale = Math.abs(m[6] * p.x) + Math.abs(m[7] * p.y) + Math.abs(m[8]);

@@ -28,7 +28,10 @@ export function sheetToMm(cal: SheetCalibration, p: SheetPoint): PlanePoint {
  *
  * @example localJacobian(perAxisScale(refs), { x: 0, y: 0 }) // [sx, 0, 0, sy]
  */
-export function localJacobian(cal: SheetCalibration, p: SheetPoint): readonly number[] {
+export function localJacobian(
+  cal: SheetCalibration,
+  p: SheetPoint,
+): readonly [number, number, number, number] {
   switch (cal.kind) {
     case 'two-point':
       return [cal.mmPerPx, 0, 0, cal.mmPerPx];

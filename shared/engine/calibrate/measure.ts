@@ -104,7 +104,7 @@ function calibrationInputs(cal: SheetCalibration): CalibrationInput[] {
     case 'homography': {
       // With redundant points the residuals measure the picks directly; when they are worse
       // than the stated pick error, believe the residuals.
-      const j = localJacobian(cal, cal.controls[0].px);
+      const j = localJacobian(cal, cal.controls[0]!.px); // a fitted one has four or more
       const mmPerPx = Math.sqrt(Math.abs(j[0] * j[3] - j[1] * j[2]));
       const residualPx = cal.redundancy > 0 && mmPerPx > 0 ? cal.rmsResidualMm / mmPerPx : 0;
       const pickPx = Math.max(cal.pickErrorPx, residualPx);

@@ -37,12 +37,13 @@ export function parseModelScale(text: string): ModelScale {
   let ratio: number | undefined;
   const r = RATIO_RE.exec(t);
   const f = r ? null : PER_FOOT_RE.exec(t);
+  // Every group of RATIO_RE and PER_FOOT_RE is required, so a match holds each one.
   if (r) {
-    const [m, full] = [parseMixedNumber(r[1]), parseMixedNumber(r[2])];
+    const [m, full] = [parseMixedNumber(r[1]!), parseMixedNumber(r[2]!)];
     if (m !== undefined && full !== undefined && full > 0) ratio = m / full;
   } else if (f) {
-    const n = parseMixedNumber(f[1]);
-    const unitMm = /^m/i.test(f[2]) ? 1 : MM_PER_IN;
+    const n = parseMixedNumber(f[1]!);
+    const unitMm = /^m/i.test(f[2]!) ? 1 : MM_PER_IN;
     if (n !== undefined) ratio = (n * unitMm) / MM_PER_FT;
   }
   if (ratio === undefined || !Number.isFinite(ratio) || ratio <= 0) {

@@ -80,12 +80,20 @@ export interface PerAxisCalibration {
   readonly pickErrorPx: number;
 }
 
+/** A 3×3 matrix, row-major: its nine entries. */
+// prettier-ignore
+export type Matrix3 = readonly [
+  number, number, number,
+  number, number, number,
+  number, number, number,
+];
+
 export interface HomographyCalibration {
   readonly kind: 'homography';
   /** H, row-major, h33 = 1: pixel (x, y, 1) → plane (u·w, v·w, w). */
-  readonly matrix: readonly number[];
+  readonly matrix: Matrix3;
   /** H⁻¹, row-major, h33 = 1: plane → pixel. */
-  readonly inverse: readonly number[];
+  readonly inverse: Matrix3;
   readonly controls: readonly ControlPoint[];
   /** Plane-space miss of each control point, mm (all 0 with exactly four points). */
   readonly residualsMm: readonly number[];
