@@ -2,7 +2,7 @@ import { z } from 'zod';
 import type { Assert, Same } from './agree';
 import type {
   Contradiction,
-  EngineError,
+  SolveError,
   MonteCarloResult,
   OpenGroup,
   SolveResult,
@@ -71,7 +71,7 @@ const openGroup = z.object({
   relations: z.array(z.string()),
 });
 
-const engineError = z.object({
+const solveError = z.object({
   code: z.enum([
     'schema',
     'duplicate-name',
@@ -120,7 +120,7 @@ export const solveResult = z.object({
   undetermined: z.array(z.string()),
   needs: z.number(),
   openGroups: z.array(openGroup),
-  errors: z.array(engineError),
+  errors: z.array(solveError),
   monteCarlo: monteCarloResult.optional(),
 });
 
@@ -141,6 +141,6 @@ type _Agree = [
   Assert<Same<z.infer<typeof contradiction>, Contradiction>>,
   Assert<Same<z.infer<typeof solveCheck>, SolveCheck>>,
   Assert<Same<z.infer<typeof openGroup>, OpenGroup>>,
-  Assert<Same<z.infer<typeof engineError>, EngineError>>,
+  Assert<Same<z.infer<typeof solveError>, SolveError>>,
   Assert<Same<z.infer<typeof monteCarloResult>, MonteCarloResult>>,
 ];

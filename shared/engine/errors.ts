@@ -6,8 +6,7 @@
  * `instanceof` the module's class keeps working and a caller can catch all of them as one.
  *
  * A solve never throws for bad input: it reports the same facts as data in its result's
- * `errors` (result.ts `EngineError`, the entry type, which index.ts exports under that name for
- * the API's schema; import this class from `@shared/engine/errors`).
+ * `errors` (result.ts `SolveError`, the entry type the API's schema checks).
  */
 
 /** Where in the input an error is; only what applies is present. */

@@ -24,6 +24,8 @@ export {
 } from './length';
 export type { ModelUnit, NearestFraction } from './length';
 export { sizeText, drillMmText, drillText, tapDrillText, clearanceText } from './size-text';
+export { EngineError } from './errors';
+export type { EngineErrorLocation } from './errors';
 export { parseQuantity, quantityIn, suggestNominal, QuantityError } from './quantity';
 export type {
   Quantity,
@@ -103,8 +105,8 @@ export type {
   Check,
   Suspect,
   OpenGroup,
-  EngineError,
-  EngineErrorCode,
+  SolveError,
+  SolveErrorCode,
   MonteCarloResult,
   MonteCarloValue,
 } from './result';

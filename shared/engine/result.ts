@@ -87,7 +87,7 @@ export interface OpenGroup {
   relations: string[];
 }
 
-export type EngineErrorCode =
+export type SolveErrorCode =
   | 'schema'
   | 'duplicate-name'
   | 'reserved-name'
@@ -102,8 +102,9 @@ export type EngineErrorCode =
   | 'singular'
   | 'no-convergence';
 
-export interface EngineError {
-  code: EngineErrorCode;
+/** A refusal or failure a solve reports as data in its result (it never throws for bad input). */
+export interface SolveError {
+  code: SolveErrorCode;
   message: string;
   relation?: string;
   dimension?: string;
@@ -142,6 +143,6 @@ export interface SolveResult {
   needs: number;
   /** Per group of undetermined values: how many more dimensions and which to measure. */
   openGroups: OpenGroup[];
-  errors: EngineError[];
+  errors: SolveError[];
   monteCarlo?: MonteCarloResult;
 }

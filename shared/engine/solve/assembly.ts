@@ -5,7 +5,7 @@
 import type {
   Check,
   Contradiction,
-  EngineError,
+  SolveError,
   SolveResult,
   SolveStatus,
   ValueResult,
@@ -139,7 +139,7 @@ export function assembleResult(
   traces: Traces,
   sens: ReadonlyArray<Sensitivity | undefined>,
   bands: GivenBands,
-  errors: EngineError[],
+  errors: SolveError[],
   reconciled: { contradictions: Contradiction[]; checks: Check[] },
   valuesOnly: boolean,
 ): SolveResult {

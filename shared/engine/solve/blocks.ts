@@ -7,13 +7,13 @@
 import type { CompiledRelation } from '../expression';
 import { linearizeBlock } from '../jacobian';
 import { factorRows, maxAbs, nearlyEqual, TOLERANCES, type SparseRow } from '../numeric';
-import type { EngineError } from '../result';
+import type { SolveError } from '../result';
 import { analyseStructure, type StructureResult } from '../structure';
 import type { SolveOptions } from './options';
 import type { PreparedModel } from './prepare';
 
 interface BlockFailure {
-  error?: EngineError;
+  error?: SolveError;
 }
 
 interface SolveContext {
@@ -44,7 +44,7 @@ function describeNotFinite(
   ids: string[],
   rels: readonly CompiledRelation[],
   x: Float64Array,
-): EngineError | null {
+): SolveError | null {
   for (const [i, rel] of rels.entries()) {
     const d = rel.diagnose(x);
     if (d)
@@ -283,7 +283,7 @@ export interface Solution {
   unknownDims: number[];
   blocks: Array<SolvedBlock & { ok: boolean }>;
   x: Float64Array;
-  errors: EngineError[];
+  errors: SolveError[];
 }
 
 export function solveStructure(prep: PreparedModel, options: SolveOptions): Solution {
@@ -318,7 +318,7 @@ export function solveStructure(prep: PreparedModel, options: SolveOptions): Solu
   };
   const colOf = new Int32Array(dims.length).fill(-1);
   const names = dims.map((d) => d.name);
-  const errors: EngineError[] = [];
+  const errors: SolveError[] = [];
   const blocks: Solution['blocks'] = [];
   // The structure's indices count the relations and unknowns it was given.
   for (const b of structure.blocks) {

@@ -21,7 +21,7 @@ import {
   type ToleranceDefaults,
 } from '../model';
 import { parseQuantity, quantityIn, QuantityError, type Quantity } from '../quantity';
-import type { EngineError, SolveResult } from '../result';
+import type { SolveError, SolveResult } from '../result';
 
 export interface PreparedDimension {
   name: string;
@@ -53,12 +53,12 @@ export interface PreparedModel {
   dimensions: PreparedDimension[];
   byName: Map<string, PreparedDimension>;
   relations: PreparedRelation[];
-  errors: EngineError[];
+  errors: SolveError[];
 }
 
 function badValue(
   pd: PreparedDimension,
-  errors: EngineError[],
+  errors: SolveError[],
   field: string,
   r: { message: string; at?: number },
 ): void {
@@ -124,7 +124,7 @@ function writtenTolerance(
 export function prepareModel(model: FairsheetModel): PreparedModel {
   const unit = model.units;
   const defaults = toleranceDefaults(model.defaults);
-  const errors: EngineError[] = [];
+  const errors: SolveError[] = [];
   const dimensions: PreparedDimension[] = [];
   const byName = new Map<string, PreparedDimension>();
 
@@ -261,7 +261,7 @@ export function prepareModel(model: FairsheetModel): PreparedModel {
 export function schemaErrors(
   error: { issues: Array<{ path: PropertyKey[]; message: string }> },
   input: unknown,
-): EngineError[] {
+): SolveError[] {
   const raw = input as {
     dimensions?: Array<{ name?: unknown }>;
     relations?: Array<{ id?: unknown }>;
@@ -269,7 +269,7 @@ export function schemaErrors(
   return error.issues.map((issue) => {
     const [head, idx, ...rest] = issue.path;
     const where = issue.path.map(String).join('.');
-    const e: EngineError = {
+    const e: SolveError = {
       code: 'schema',
       message: where ? `${where}: ${issue.message}` : issue.message,
     };
@@ -286,7 +286,7 @@ export function schemaErrors(
   });
 }
 
-export function emptyResult(errors: EngineError[]): SolveResult {
+export function emptyResult(errors: SolveError[]): SolveResult {
   return {
     status: 'invalid',
     units: null,

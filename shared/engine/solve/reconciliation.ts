@@ -4,7 +4,7 @@
  * ranked suspects.
  */
 import { reconcileRedundant, type RedundantRelation } from '../reconcile';
-import type { Check, Contradiction, EngineError } from '../result';
+import type { Check, Contradiction, SolveError } from '../result';
 import { totalDerivative, type Sensitivity } from '../stackup';
 import type { Solution } from './blocks';
 import type { GivenBands } from './assembly';
@@ -22,7 +22,7 @@ export function reconcileSolution(
   traces: Traces,
   sens: ReadonlyArray<Sensitivity | undefined>,
   bands: GivenBands,
-  errors: EngineError[],
+  errors: SolveError[],
   valuesOnly: boolean,
 ): { contradictions: Contradiction[]; checks: Check[] } {
   const { prep, structure, x } = sol;

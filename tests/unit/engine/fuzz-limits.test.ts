@@ -16,15 +16,15 @@ import {
   parseExpression,
   parseRelation,
   solveModel,
-  type EngineErrorCode,
+  type SolveErrorCode,
 } from '@shared/engine';
 import { expression } from '../../helpers/expressions';
 
 const runs = { numRuns: 10_000 };
 const timeout = 300_000;
 
-// shared/engine/result.ts EngineErrorCode, listed by hand so a new code is a conscious change.
-const engineCodes: EngineErrorCode[] = [
+// shared/engine/result.ts SolveErrorCode, listed by hand so a new code is a conscious change.
+const engineCodes: SolveErrorCode[] = [
   'schema',
   'duplicate-name',
   'reserved-name',
