@@ -1,6 +1,7 @@
 import { and, asc, desc, eq, sql } from 'drizzle-orm';
 import type { Db } from './client';
 import type { DbOrTx } from './models';
+import { oneRow } from './rows';
 import {
   memberships,
   projectModels,
@@ -57,7 +58,7 @@ export async function insertProject(
   ownerId: string,
   values: Pick<ProjectRow, 'name' | 'displayUnit' | 'modelScale'>,
 ): Promise<ProjectRow> {
-  const [project] = await db.insert(projects).values(values).returning();
+  const project = oneRow(await db.insert(projects).values(values).returning(), 'insert project');
   await db.insert(memberships).values({ projectId: project.id, userId: ownerId, role: 'owner' });
   return project;
 }
@@ -67,12 +68,12 @@ export async function updateProject(
   projectId: string,
   values: Partial<Pick<ProjectRow, 'name' | 'displayUnit' | 'modelScale'>>,
 ): Promise<ProjectRow> {
-  const [row] = await db
+  const rows = await db
     .update(projects)
     .set({ ...values, updatedAt: sql`now()` })
     .where(eq(projects.id, projectId))
     .returning();
-  return row;
+  return oneRow(rows, 'update project');
 }
 
 /**

@@ -1,6 +1,7 @@
 import { eq, sql } from 'drizzle-orm';
 import type { ClientRateLimitInfo, Options, Store } from 'express-rate-limit';
 import type { Db } from './client';
+import { oneRow } from './rows';
 import { rateLimits } from './schema';
 
 /**
@@ -36,7 +37,7 @@ export class PostgresRateLimitStore implements Store {
   async increment(key: string): Promise<ClientRateLimitInfo> {
     const window = sql`now() + ${`${this.windowMs} milliseconds`}::interval`;
     const expired = sql`${rateLimits.resetAt} <= now()`;
-    const [row] = await this.db
+    const rows = await this.db
       .insert(rateLimits)
       .values({ key: this.key(key), hits: 1, resetAt: window })
       .onConflictDoUpdate({
@@ -47,6 +48,7 @@ export class PostgresRateLimitStore implements Store {
         },
       })
       .returning();
+    const row = oneRow(rows, 'count a hit');
     return { totalHits: row.hits, resetTime: row.resetAt };
   }
 

@@ -1,6 +1,7 @@
 import { and, asc, eq, notExists, sql } from 'drizzle-orm';
 import type { Db } from './client';
 import type { DbOrTx } from './models';
+import { oneRow } from './rows';
 import { files, sheets, type FileRow, type SheetRow } from './schema';
 
 type Tx = Parameters<Parameters<Db['transaction']>[0]>[0];
@@ -38,11 +39,11 @@ export async function lockFile(tx: Tx, sha256: string) {
 }
 
 export async function countSheetsUsing(tx: Tx, sha256: string): Promise<number> {
-  const [row] = await tx
+  const rows = await tx
     .select({ n: sql<number>`count(*)::int` })
     .from(sheets)
     .where(eq(sheets.fileSha256, sha256));
-  return row.n;
+  return oneRow(rows, 'count sheets').n;
 }
 
 export async function deleteFile(tx: Tx, sha256: string) {
@@ -125,12 +126,12 @@ export async function updateSheet(
     >
   >,
 ): Promise<SheetRow> {
-  const [row] = await tx
+  const rows = await tx
     .update(sheets)
     .set({ ...values, updatedAt: sql`now()` })
     .where(eq(sheets.id, sheetId))
     .returning();
-  return row;
+  return oneRow(rows, 'update sheet');
 }
 
 /** Deletes the sheet and answers the file it used; undefined when there was no such sheet. */

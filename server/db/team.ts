@@ -2,6 +2,7 @@ import { and, desc, eq, isNull, sql, type AnyColumn } from 'drizzle-orm';
 import type { ProjectRole } from '@shared/api';
 import type { Db } from './client';
 import type { DbOrTx } from './models';
+import { oneRow } from './rows';
 import { memberships, projects, sheets, users } from './schema';
 import { activity, checks, comments, corrections, invitations } from './schema-team';
 
@@ -22,8 +23,7 @@ export async function insertInvitation(
     expiresAt: Date;
   },
 ) {
-  const [row] = await db.insert(invitations).values(values).returning();
-  return row;
+  return oneRow(await db.insert(invitations).values(values).returning(), 'insert invitation');
 }
 
 const invitationColumns = {
@@ -116,11 +116,11 @@ export async function renewInvitation(db: Db, id: string, tokenHash: string, exp
 // Members
 
 export async function countOwners(db: DbOrTx, projectId: string): Promise<number> {
-  const [row] = await db
+  const rows = await db
     .select({ n: sql<number>`count(*)::int` })
     .from(memberships)
     .where(and(eq(memberships.projectId, projectId), eq(memberships.role, 'owner')));
-  return row.n;
+  return oneRow(rows, 'count owners').n;
 }
 
 export async function findMemberRole(db: DbOrTx, projectId: string, userId: string) {
@@ -225,8 +225,7 @@ export async function insertComment(
     mentions: string[];
   },
 ) {
-  const [row] = await db.insert(comments).values(values).returning();
-  return row;
+  return oneRow(await db.insert(comments).values(values).returning(), 'insert comment');
 }
 
 export async function listComments(
@@ -257,8 +256,7 @@ export async function listComments(
 // Corrections
 
 export async function insertCorrection(db: DbOrTx, values: typeof corrections.$inferInsert) {
-  const [row] = await db.insert(corrections).values(values).returning();
-  return row;
+  return oneRow(await db.insert(corrections).values(values).returning(), 'insert correction');
 }
 
 export async function listCorrections(db: Db, projectId: string) {

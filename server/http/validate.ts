@@ -82,8 +82,8 @@ export function validate(schemas: Schemas): RequestHandler {
         fields.push(...fieldIssues(result.error).map((f) => ({ ...f, path: f.path || part })));
       }
     }
-    if (limits.length) {
-      const first = limits.find((l) => l.kind === 'size') ?? limits[0];
+    const first = limits.find((l) => l.kind === 'size') ?? limits[0];
+    if (first) {
       const message = `Over a limit: ${first.message} (${first.path}).`;
       const details = {
         limit: first.limit,

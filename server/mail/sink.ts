@@ -72,7 +72,8 @@ function decodeWords(value: string): string {
 
 function header(raw: string, name: string): string {
   const match = raw.match(new RegExp(`^${name}:\\s*(.*(?:\\r?\\n[ \\t].*)*)`, 'im'));
-  return match ? decodeWords(match[1].replace(/\r?\n[ \t]+/g, ' ').trim()) : '';
+  const value = match?.[1];
+  return value === undefined ? '' : decodeWords(value.replace(/\r?\n[ \t]+/g, ' ').trim());
 }
 
 /** Decodes the quoted-printable bodies nodemailer writes for plain-text mail. */

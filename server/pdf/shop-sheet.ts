@@ -175,16 +175,18 @@ class SheetWriter {
       ],
     ];
     let yy = top;
-    const heights = rows.map(([, v, tone]) =>
-      Math.max(
+    const measured = rows.map(([label, value, tone]) => ({
+      label,
+      value,
+      tone,
+      h: Math.max(
         15,
-        this.heightOf(v, w - labelW - 8, tone === 'alarm' ? 9 : 8, tone !== 'normal') + 6,
+        this.heightOf(value, w - labelW - 8, tone === 'alarm' ? 9 : 8, tone !== 'normal') + 6,
       ),
-    );
-    const total = heights.reduce((a, b) => a + b, 0);
+    }));
+    const total = measured.reduce((a, r) => a + r.h, 0);
     this.doc.lineWidth(1.2).rect(x, top, w, total).stroke(INK);
-    rows.forEach(([label, value, tone], i) => {
-      const h = heights[i];
+    measured.forEach(({ label, value, tone, h }, i) => {
       if (tone === 'alarm') {
         this.doc.rect(x + labelW, yy, w - labelW, h).fill('#fbe3e0');
         this.doc
@@ -385,8 +387,8 @@ class SheetWriter {
 
   box(title: string, lines: string[], color: string) {
     const w = this.right - this.left;
-    const body = lines.map((l) => this.heightOf(l, w - 20, 8) + 3);
-    const h = 20 + body.reduce((a, b) => a + b, 0) + 4;
+    const body = lines.map((l) => ({ l, h: this.heightOf(l, w - 20, 8) + 3 }));
+    const h = 20 + body.reduce((a, b) => a + b.h, 0) + 4;
     this.ensure(h);
     this.doc
       .lineWidth(color === DANGER ? 1.6 : 0.8)
@@ -394,10 +396,10 @@ class SheetWriter {
       .stroke(color);
     this.text(title, this.left + 8, this.y + 6, { size: 8.5, bold: true, color });
     let yy = this.y + 20;
-    lines.forEach((l, i) => {
-      this.text(l, this.left + 10, yy, { size: 8, width: w - 20 });
-      yy += body[i];
-    });
+    for (const line of body) {
+      this.text(line.l, this.left + 10, yy, { size: 8, width: w - 20 });
+      yy += line.h;
+    }
     this.y += h + 8;
   }
 

@@ -164,8 +164,9 @@ export function sheetRoutes(db: Db, sheets: SheetService, uploads: UploadOptions
         res.status(416).set('Content-Range', `bytes */${file.sizeBytes}`).end();
         return;
       }
-      if (ranges !== -2 && ranges && ranges.type === 'bytes' && ranges.length === 1) {
-        range = { start: ranges[0].start, end: ranges[0].end };
+      if (ranges !== -2 && ranges && ranges.type === 'bytes') {
+        const [only, ...more] = ranges;
+        if (only && more.length === 0) range = { start: only.start, end: only.end };
       }
     }
     if (range) {

@@ -11,15 +11,17 @@ export function findMentions(
   body: string,
   members: { userId: string; name: string; email: string }[],
 ) {
+  // The group is not optional: every match has it.
   const words = [...body.matchAll(/@([\w.+-]+@[\w-]+(?:\.[\w-]+)+|[\p{L}\w.-]+)/gu)].map((m) =>
-    m[1].toLowerCase().replace(/[.,;:!?]+$/, ''),
+    m[1]!.toLowerCase().replace(/[.,;:!?]+$/, ''),
   );
   return members.filter((m) =>
     words.some(
       (w) =>
         w === m.email.toLowerCase() ||
         w === m.name.replace(/\s+/g, '').toLowerCase() ||
-        w === m.name.split(/\s+/)[0].toLowerCase(),
+        // split answers at least one piece.
+        w === m.name.split(/\s+/)[0]!.toLowerCase(),
     ),
   );
 }
@@ -49,7 +51,8 @@ async function placeOf(
       };
     case 'pin':
     case 'sheet': {
-      const [sheetId, pinId] = target.targetId.split(':');
+      // split answers at least one piece: the sheet's id, then a pin's.
+      const [sheetId, pinId] = target.targetId.split(':') as [string, ...string[]];
       const sheet = await findSheet(db, projectId, sheetId).catch(() => undefined);
       if (!sheet) return { words: 'a sheet of the project', path: `${base}/sheets` };
       const title = `the sheet “${sheet.title}”`;

@@ -104,8 +104,9 @@ export function createMeasurementService(db: Db, models: ModelService) {
     putDimension(model, dimension, previousName);
     const checked = modelSchema.safeParse(model);
     if (!checked.success) {
+      // A failed parse has at least one issue.
       throw unprocessable(
-        `The model would not be valid with this measurement: ${checked.error.issues[0].message}.`,
+        `The model would not be valid with this measurement: ${checked.error.issues[0]!.message}.`,
       );
     }
     const next: FairsheetModel = checked.data;

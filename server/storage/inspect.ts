@@ -131,7 +131,7 @@ function jpegSize(buf: Buffer): PageSize {
   let orientation = 1;
   while (pos + 4 <= buf.length) {
     if (buf[pos] !== 0xff) throw unreadable('The JPEG file is damaged (a marker is missing).');
-    const marker = buf[pos + 1];
+    const marker = buf.readUInt8(pos + 1);
     if (marker === 0xff) {
       pos += 1; // fill byte
       continue;
@@ -230,8 +230,9 @@ function tiffSize(buf: Buffer): PageSize {
   if (!offsets?.length || !counts || counts.length !== offsets.length) {
     throw unreadable('The TIFF file has no image data.');
   }
+  // counts has one entry per offset (checked above).
   offsets.forEach((o, i) => {
-    if (o + counts[i] > buf.length) throw unreadable('The TIFF file is cut short.');
+    if (o + counts[i]! > buf.length) throw unreadable('The TIFF file is cut short.');
   });
   return { widthPx, heightPx };
 }
