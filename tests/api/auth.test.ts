@@ -262,7 +262,7 @@ describe('register and sign in', () => {
              and sess->>'csrfToken' = $1`,
           [c.csrf],
         )
-      ).rows[0].expire.getTime();
+      ).rows[0]!.expire.getTime();
     const atSignIn = await expiry();
     await new Promise((r) => setTimeout(r, 1100)); // the column keeps whole seconds
     await c.get('/api/projects').expect(200);

@@ -100,7 +100,13 @@ async function rowCounts() {
        as files, (select count(*) from sheets)::int as sheets, (select count(*) from
        model_revisions)::int as revisions, (select count(*) from activity)::int as activity`,
   );
-  return rows[0] as Record<string, number>;
+  return rows[0] as {
+    projects: number;
+    files: number;
+    sheets: number;
+    revisions: number;
+    activity: number;
+  };
 }
 
 /** Runs `act` and checks it left no row, file or descriptor behind. */

@@ -97,8 +97,8 @@ describe('project bundles', () => {
     const rb = solveModel(b.body.model);
     expect(Object.keys(rb.values).length).toBeGreaterThan(20);
     for (const [name, v] of Object.entries(ra.values)) {
-      if (v.value === null) expect(rb.values[name].value).toBeNull();
-      else expect(rb.values[name].value).toBeCloseTo(v.value, 12);
+      if (v.value === null) expect(rb.values[name]!.value).toBeNull();
+      else expect(rb.values[name]!.value).toBeCloseTo(v.value, 12);
     }
 
     const sums = (list: { file: { sha256: string } }[]) => list.map((s) => s.file.sha256).sort();
@@ -201,7 +201,7 @@ describe('project bundles', () => {
     const corrections = (c: { corrections: { wrong: string; author: { name: string } }[] }) =>
       c.corrections.map((x) => ({ wrong: x.wrong, by: x.author.name }));
     expect(corrections(crb)).toEqual(corrections(cra));
-    expect(corrections(crb)[0].by).toBe(demoBuilder.name);
+    expect(corrections(crb)[0]!.by).toBe(demoBuilder.name);
 
     // The time line as it was, then the import and the invitations it sent.
     const [aa, ab] = await both('/activity?limit=500');

@@ -84,7 +84,7 @@ describe('the answers the client reads match their schemas in shared/api', () =>
       revisionDetail,
       await builder.get(url(`/history/${saved.revision}`)).expect(200),
     );
-    expect(detail.diff.dimensions.map((d) => d.key)).toEqual([first.name]);
+    expect(detail.diff.dimensions.map((d) => d.key)).toEqual([first!.name]);
     answerOf(revisionDetail, await builder.get(url('/history/0')).expect(200));
 
     const compared = answerOf(
@@ -116,7 +116,10 @@ describe('the answers the client reads match their schemas in shared/api', () =>
   it('GET the sheets and one sheet, and PATCH one', async () => {
     const list = answerOf(sheetList, await builder.get(url('/sheets')).expect(200));
     expect(list.sheets.some((s) => s.calibration !== null && s.pins.length > 0)).toBe(true);
-    const one = answerOf(sheet, await builder.get(url(`/sheets/${list.sheets[0].id}`)).expect(200));
+    const one = answerOf(
+      sheet,
+      await builder.get(url(`/sheets/${list.sheets[0]!.id}`)).expect(200),
+    );
     const patched = answerOf(
       sheet,
       await builder
@@ -139,7 +142,7 @@ describe('the answers the client reads match their schemas in shared/api', () =>
     const posted = answerOf(
       comment,
       await builder
-        .post(url('/comments'), { targetKind: 'sheet', targetId: sheets[0].id, body: 'Right.' })
+        .post(url('/comments'), { targetKind: 'sheet', targetId: sheets[0]!.id, body: 'Right.' })
         .expect(201),
     );
     const comments = answerOf(commentList, await builder.get(url('/comments')).expect(200));

@@ -135,8 +135,8 @@ function mutate(body: Json, mutations: Mutation[]): Json {
     // itself would make the body circular (and change the constant for later cases).
     const value = structuredClone(m.value);
     const all = places(root);
-    const [holder, key] = all[m.at % all.length];
-    const current = (holder as Record<string, Json>)[key as string];
+    const [holder, key] = all[m.at % all.length]!;
+    const current = (holder as Record<string, Json>)[key as string]!;
     switch (m.op) {
       case 'replace':
         (holder as Record<string, Json>)[key as string] = value;
@@ -164,7 +164,7 @@ function mutate(body: Json, mutations: Mutation[]): Json {
         break;
       case 'duplicate':
         if (Array.isArray(current) && current.length)
-          current.push(structuredClone(current[m.at % current.length]));
+          current.push(structuredClone(current[m.at % current.length]!));
         break;
     }
   }

@@ -176,7 +176,7 @@ describe('concurrent saves of one model', () => {
     const statuses = results.map((r) => r.status).sort();
     expect(statuses).toEqual([200, ...Array<number>(editorCount - 1).fill(409)]);
     const winner = results.findIndex((r) => r.status === 200);
-    expect(results[winner].body.revision).toBe(before.revision + 1);
+    expect(results[winner]!.body.revision).toBe(before.revision + 1);
     const after = await current(owner);
     expect(after.revision).toBe(before.revision + 1);
     expect(after.model.dimensions.at(-1)!.name).toBe(`burst_${winner}`);

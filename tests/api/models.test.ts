@@ -144,7 +144,7 @@ describe('the model and its revisions', () => {
 
   it('GET /model answers an ETag; an unchanged model revalidates with 304, a save changes it', async () => {
     const first = await viewer.get(url('/model')).expect(200);
-    const etag = first.headers.etag;
+    const etag = first.headers.etag!;
     expect(etag).toMatch(/^"m\d+-/);
     await viewer.get(url('/model')).set('If-None-Match', etag).expect(304);
     const model = structuredClone(first.body.model);
@@ -163,7 +163,7 @@ describe('the model and its revisions', () => {
     for (const [asked, expected] of [
       ['gzip, deflate, br', 'br'],
       ['gzip, deflate', 'gzip'],
-    ]) {
+    ] as const) {
       const packed = await viewer.get(url('/model')).set('Accept-Encoding', asked).expect(200);
       expect(packed.headers['content-encoding']).toBe(expected);
       // supertest unpacks both itself; the bytes on the wire are the Content-Length.
@@ -192,7 +192,7 @@ describe('history, compare and restore', () => {
       summary: string;
       user: { name: string } | null;
     }[];
-    expect(entries[0].revision).toBe((await owner.get(url('/model'))).body.revision);
+    expect(entries[0]!.revision).toBe((await owner.get(url('/model'))).body.revision);
     expect(entries.at(-1)!.revision).toBe(0);
     const second = entries.find((e) => e.revision === 2)!;
     expect(second.summary).toContain('overall value 6 1/4 → 6 3/8');

@@ -37,7 +37,8 @@ async function state(id = sheetId) {
 
 beforeAll(async () => {
   t = await createTestApp();
-  [owner, editor, checker, viewer, stranger] = [0, 1, 2, 3, 4].map(() => new TestClient(t.app));
+  const client = () => new TestClient(t.app);
+  [owner, editor, checker, viewer, stranger] = [client(), client(), client(), client(), client()];
   await owner.register('m.owner@example.com');
   const e = await editor.register('m.editor@example.com');
   const c = await checker.register('m.checker@example.com');

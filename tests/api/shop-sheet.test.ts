@@ -49,12 +49,12 @@ describe('GET /api/projects/:projectId/shop-sheet (JSON for the print view)', ()
       'steam_flange',
       'lub_boss',
     ]);
-    expect(sheet.groups[0].parts.map((p) => p.id)).toEqual(['frame_l', 'frame_r']);
+    expect(sheet.groups[0]!.parts.map((p) => p.id)).toEqual(['frame_l', 'frame_r']);
     expect(sheet.derivedBy).toBe('Alex Marsh (builder)');
     expect(sheet.revision).toBeGreaterThanOrEqual(1);
     // The demo's checks cover two derived positions only: every title block says so unmissably.
     expect(sheet.groups.every((g) => /NOT CHECKED|VOID/.test(g.check.text))).toBe(true);
-    const fwd = sheet.groups[0].rows.find((r) => r.label === 'Leading horn, forward bolts 1/2')!;
+    const fwd = sheet.groups[0]!.rows.find((r) => r.label === 'Leading horn, forward bolts 1/2')!;
     // 8 3/4 − 2 1/4 / 2 − 5/16 = 7 5/16 in = 185.7375 mm (rounded half up to 185.738).
     expect(fwd.x.text).toBe('7.3125');
     expect(fwd.x.otherText).toBe('185.738');
@@ -121,15 +121,15 @@ describe('GET /api/projects/:projectId/shop-sheet.pdf', () => {
 
   it('is A4 landscape by default and Letter landscape on request', async () => {
     // A4 = 210 × 297 mm = 595.28 × 841.89 pt; Letter = 8.5 × 11 in = 612 × 792 pt.
-    expect(a4.sizes[0][2]).toBeCloseTo(841.89, 1);
-    expect(a4.sizes[0][3]).toBeCloseTo(595.28, 1);
+    expect(a4.sizes[0]![2]).toBeCloseTo(841.89, 1);
+    expect(a4.sizes[0]![3]).toBeCloseTo(595.28, 1);
     const res = await pdfRequest(
       builder,
       `/api/projects/${projectId}/shop-sheet.pdf?paper=letter`,
     ).expect(200);
     const letter = await readPdf(binary(res));
-    expect(letter.sizes[0][2]).toBeCloseTo(792, 3);
-    expect(letter.sizes[0][3]).toBeCloseTo(612, 3);
+    expect(letter.sizes[0]![2]).toBeCloseTo(792, 3);
+    expect(letter.sizes[0]![3]).toBeCloseTo(612, 3);
     expect(letter.text).toContain('185.738');
   });
 
@@ -143,7 +143,7 @@ describe('GET /api/projects/:projectId/shop-sheet.csv', () => {
     const res = await builder.get(`/api/projects/${projectId}/shop-sheet.csv`).expect(200);
     expect(res.headers['content-type']).toMatch(/^text\/csv/);
     const rows = parseCsv(res.text);
-    expect(Object.keys(rows[0])).toEqual([...SHOP_SHEET_CSV_COLUMNS]);
+    expect(Object.keys(rows[0]!)).toEqual([...SHOP_SHEET_CSV_COLUMNS]);
     const fwd = rows.find((r) => r.label === 'Leading horn, forward bolts 1/2')!;
     expect(fwd).toMatchObject({
       group: 'frames',

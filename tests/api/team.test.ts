@@ -437,7 +437,7 @@ describe('comments, corrections and activity', () => {
     const kinds = new Set(all.map((e) => e.kind));
     for (const k of ['save', 'check', 'uncheck', 'comment', 'correction', 'invitation', 'member'])
       expect(kinds).toContain(k);
-    expect(Number(all[0].id)).toBeGreaterThan(Number(all.at(-1)!.id));
+    expect(Number(all[0]!.id)).toBeGreaterThan(Number(all.at(-1)!.id));
     const saves = (await viewer.get(url('/activity?kind=save'))).body.entries as { kind: string }[];
     expect(saves.length).toBeGreaterThan(0);
     expect(saves.every((e) => e.kind === 'save')).toBe(true);

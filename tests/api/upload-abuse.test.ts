@@ -113,6 +113,13 @@ async function accepted(files: Part[]) {
   }>;
 }
 
+/** Uploads one file, expects it accepted as one sheet and answers that sheet. */
+async function acceptedOne(file: Part) {
+  const sheets = await accepted([file]);
+  expect(sheets).toHaveLength(1);
+  return sheets[0]!;
+}
+
 /** The JPEG from makeJpeg with its frame header (SOF0) claiming another size. */
 function jpegClaiming(width: number, height: number): Buffer {
   const jpg = Buffer.from(makeJpeg(8, 8));
@@ -142,9 +149,11 @@ describe('bytes that disagree with the name and the Content-Type', () => {
   // part's Content-Type are only kept or ignored. The file is then served as what it is.
   it('PNG bytes named drawing.pdf and sent as application/pdf are stored and served as a PNG', async () => {
     const png = makePng(12, 7, 31);
-    const [sheet] = await accepted([
-      { bytes: png, name: 'drawing.pdf', contentType: 'application/pdf' },
-    ]);
+    const sheet = await acceptedOne({
+      bytes: png,
+      name: 'drawing.pdf',
+      contentType: 'application/pdf',
+    });
     expect(sheet).toMatchObject({ kind: 'drawing', widthPx: 12, heightPx: 7, title: 'drawing' });
     expect(sheet.file).toMatchObject({ mimeType: 'image/png', originalName: 'drawing.pdf' });
     const file = await editor
@@ -160,7 +169,7 @@ describe('bytes that disagree with the name and the Content-Type', () => {
 
   it('PDF bytes named photo.jpg and sent as image/jpeg are stored as a PDF and served as a download', async () => {
     const pdf = await makePdf(1, { size: [360, 360] });
-    const [sheet] = await accepted([{ bytes: pdf, name: 'photo.jpg', contentType: 'image/jpeg' }]);
+    const sheet = await acceptedOne({ bytes: pdf, name: 'photo.jpg', contentType: 'image/jpeg' });
     // 360 pt is 5 in: 750 px at 150 dpi.
     expect(sheet).toMatchObject({ kind: 'drawing', widthPx: 750, heightPx: 750 });
     expect(sheet.file.mimeType).toBe('application/pdf');
@@ -171,9 +180,11 @@ describe('bytes that disagree with the name and the Content-Type', () => {
   });
 
   it('JPEG bytes named scan.tif and sent as text/plain are a photo, by their bytes', async () => {
-    const [sheet] = await accepted([
-      { bytes: makeJpeg(10, 6), name: 'scan.tif', contentType: 'text/plain' },
-    ]);
+    const sheet = await acceptedOne({
+      bytes: makeJpeg(10, 6),
+      name: 'scan.tif',
+      contentType: 'text/plain',
+    });
     expect(sheet).toMatchObject({ kind: 'photo', widthPx: 10, heightPx: 6 });
     expect(sheet.file.mimeType).toBe('image/jpeg');
   });
@@ -267,7 +278,7 @@ describe('a PDF with JavaScript in it', () => {
   beforeAll(async () => {
     pdf = await makePdf(1, { javascript: script });
     expect(pdf.includes('/S /JavaScript')).toBe(true);
-    [sheet] = await accepted([{ bytes: pdf, name: 'scripted.pdf' }]);
+    sheet = await acceptedOne({ bytes: pdf, name: 'scripted.pdf' });
   });
 
   it('is stored byte for byte: the app keeps the file, it does not run or rewrite it', async () => {
@@ -322,7 +333,7 @@ describe('a PDF with JavaScript in it', () => {
     for (const file of sources) {
       const text = readFileSync(file, 'utf8');
       expect(text, file).not.toMatch(/pdfjs-dist\/web\/|pdf\.sandbox|enableScripting/);
-      for (const m of text.matchAll(/getDocument\(([\s\S]*?)\)\.promise/g)) calls.push(m[1]);
+      for (const m of text.matchAll(/getDocument\(([\s\S]*?)\)\.promise/g)) calls.push(m[1]!);
     }
     expect(calls.length).toBeGreaterThan(0);
     for (const options of calls) expect(options).toMatch(/isEvalSupported:\s*false/);
@@ -367,21 +378,22 @@ describe('sizes meant to exhaust memory', () => {
 
 describe('hostile file names', () => {
   it('a Windows path keeps only its last part', async () => {
-    const [sheet] = await accepted([
-      { bytes: makePng(3, 3, 61), name: '..\\..\\windows\\system32\\frame.png' },
-    ]);
+    const sheet = await acceptedOne({
+      bytes: makePng(3, 3, 61),
+      name: '..\\..\\windows\\system32\\frame.png',
+    });
     expect(sheet.file.originalName).toBe('frame.png');
     expect(filesUnder(t.storageDir!).some((f) => f.includes('frame'))).toBe(false);
   });
 
   it('a name that is only dots and spaces after its last slash becomes “untitled”', async () => {
-    const [sheet] = await accepted([{ bytes: makePng(3, 3, 62), name: 'sheets/ . . ' }]);
+    const sheet = await acceptedOne({ bytes: makePng(3, 3, 62), name: 'sheets/ . . ' });
     expect(sheet.file.originalName).toBe('untitled');
     expect(sheet.title).toBe('untitled');
   });
 
   it('a file named only “../..” is kept as “untitled”, not dropped for want of a name', async () => {
-    const [sheet] = await accepted([{ bytes: makePng(3, 3, 65), name: '../..' }]);
+    const sheet = await acceptedOne({ bytes: makePng(3, 3, 65), name: '../..' });
     expect(sheet.file.originalName).toBe('untitled');
     expect(sheet.title).toBe('untitled');
   });
@@ -389,7 +401,7 @@ describe('hostile file names', () => {
   it('300 characters of four-byte characters are capped at 120 whole characters with the extension', async () => {
     const name = `${'🚂'.repeat(296)}.png`;
     expect(Buffer.byteLength(name)).toBeGreaterThan(1000);
-    const [sheet] = await accepted([{ bytes: makePng(3, 3, 63), name }]);
+    const sheet = await acceptedOne({ bytes: makePng(3, 3, 63), name });
     const kept = Array.from(sheet.file.originalName);
     expect(kept).toHaveLength(120);
     expect(kept.slice(0, 116).every((c) => c === '🚂')).toBe(true);
@@ -401,7 +413,7 @@ describe('hostile file names', () => {
   });
 
   it('bidirectional overrides that would make a name read backwards are removed', async () => {
-    const [sheet] = await accepted([{ bytes: makePng(3, 3, 64), name: 'plate\u202egnp.exe' }]);
+    const sheet = await acceptedOne({ bytes: makePng(3, 3, 64), name: 'plate\u202egnp.exe' });
     expect(sheet.file.originalName).toBe('plategnp.exe');
   });
 

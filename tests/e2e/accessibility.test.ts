@@ -28,11 +28,11 @@ beforeAll(async () => {
   const { sheets } = (await api.get(`/api/projects/${ids.project}/sheets`).expect(200)).body as {
     sheets: { id: string }[];
   };
-  ids.sheet = sheets[0].id;
+  ids.sheet = sheets[0]!.id;
   const model = (await api.get(`/api/projects/${ids.project}/model`).expect(200)).body as {
     model: { parts: { id: string }[] };
   };
-  ids.part = model.model.parts[0].id;
+  ids.part = model.model.parts[0]!.id;
   await api
     .post(`/api/projects/${ids.project}/invitations`, {
       email: 'a11y.mentor@example.com',
@@ -41,13 +41,13 @@ beforeAll(async () => {
     .expect(201);
   ids.invitation = (await waitForMail(rig.t, 'a11y.mentor@example.com')).body.match(
     /\/invitations\/([\w-]+)/,
-  )![1];
+  )![1]!;
   const asker = new TestClient(rig.t.app);
   await asker.refresh();
   await asker.post('/api/auth/password-reset', { email: demoBuilder.email }).expect(202);
   ids.reset = (await waitForMail(rig.t, demoBuilder.email)).body.match(
     /reset-password\?token=([\w-]+)/,
-  )![1];
+  )![1]!;
 
   guest = await rig.browser.newContext({ viewport: { width: 1280, height: 800 } });
   guest.setDefaultTimeout(10_000);
@@ -359,7 +359,7 @@ describe('the sheet canvas from the keyboard', () => {
       await page.keyboard.press('Enter');
       await expect.poll(async () => (await added()).length).toBe(2);
       const [first, second] = await added();
-      expect(Math.hypot(second.x - first.x, second.y - first.y)).toBeCloseTo(60 / zoom, 1);
+      expect(Math.hypot(second!.x - first!.x, second!.y - first!.y)).toBeCloseTo(60 / zoom, 1);
 
       // The new pin is selected: Delete takes it off, and the sheet saves without it.
       await page.keyboard.press('Delete');

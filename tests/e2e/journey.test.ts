@@ -155,7 +155,7 @@ async function photoJpeg(page: Page): Promise<Buffer> {
     g.fillText('Prototype bedplate, full size: side panel 80 in × 24 in', 200, 120);
     return c.toDataURL('image/jpeg', 0.9);
   }, photo);
-  return Buffer.from(dataUrl.split(',')[1], 'base64');
+  return Buffer.from(dataUrl.split(',')[1]!, 'base64');
 }
 
 // ---- steps the journey repeats -----------------------------------------------------------------

@@ -59,7 +59,7 @@ async function drawingPng(page: Page, noise: boolean): Promise<Buffer> {
     g.fillText('TEST PLATE — overall 12 1/2', 400, 1160);
     return c.toDataURL('image/png');
   }, noise);
-  return Buffer.from(dataUrl.split(',')[1], 'base64');
+  return Buffer.from(dataUrl.split(',')[1]!, 'base64');
 }
 
 describe('sheets on the canvas, in a real browser', () => {

@@ -65,7 +65,7 @@ beforeAll(async () => {
   const model = (await api.get(`/api/projects/${ids.project}/model`).expect(200)).body as {
     model: { parts: { id: string }[] };
   };
-  ids.part = model.model.parts[0].id;
+  ids.part = model.model.parts[0]!.id;
   ids.empty = (
     (await api.post('/api/projects', { name: 'Empty bench', displayUnit: 'in' }).expect(201))
       .body as { id: string }
@@ -78,7 +78,7 @@ beforeAll(async () => {
     .expect(201);
   ids.invitation = (await waitForMail(rig.t, 'wording.mentor@example.com')).body.match(
     /\/invitations\/([\w-]+)/,
-  )![1];
+  )![1]!;
   // A mention on a pin: the mail must say where in words and link to the pin itself.
   await api
     .post(`/api/projects/${ids.project}/comments`, {

@@ -178,7 +178,7 @@ describe('live solving speed', () => {
       times.push(Number(await status.getAttribute('data-solve-ms')));
     }
     const sorted = [...times].sort((a, b) => a - b);
-    const median = sorted[Math.floor(sorted.length / 2)];
+    const median = sorted[Math.floor(sorted.length / 2)]!;
     console.log(
       `live re-solve, 200 dimensions, per keystroke: median ${median.toFixed(2)} ms over ${times.length} keystrokes (max ${sorted.at(-1)!.toFixed(2)} ms)`,
     );

@@ -167,7 +167,7 @@ export async function walkByTab(page: Page, within = 'body', maxPresses = 400): 
     for (let i = 0; i < 16; i += 1) await page.keyboard.press('Tab');
     presses += 16;
     const seen = await page.evaluate(() => (window as unknown as { a11yKeys: string[] }).a11yKeys);
-    const round = seen.indexOf(seen[0], 1);
+    const round = seen.indexOf(seen[0]!, 1);
     keys.splice(0, keys.length, ...(round > 0 ? seen.slice(0, round) : seen));
     if (round > 0) break;
   }

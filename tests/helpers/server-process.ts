@@ -164,7 +164,7 @@ export class HttpClient {
     for await (const chunk of res) chunks.push(chunk as Buffer);
     const text = Buffer.concat(chunks).toString('utf8');
     const set = res.headers['set-cookie'];
-    if (set?.length) this.cookie = set[0].split(';')[0];
+    if (set?.length) this.cookie = set[0]!.split(';')[0]!;
     let parsed: unknown = text;
     if ((res.headers['content-type'] ?? '').includes('json')) parsed = JSON.parse(text);
     return { status: res.statusCode!, body: parsed as T, headers: res.headers };

@@ -147,7 +147,7 @@ function stream(client: HttpClient, projectId: string, tag: string) {
 }
 
 const temporaryFiles = () => {
-  const folder = path.join(env.UPLOAD_DIR, '.tmp');
+  const folder = path.join(env.UPLOAD_DIR!, '.tmp');
   return existsSync(folder) ? readdirSync(folder) : [];
 };
 
@@ -162,7 +162,7 @@ async function blobBeingWritten(before: string[], timeoutMs = 60_000) {
 
 /** Every file of the storage folder outside its temporary folder, as [name, bytes]. */
 function storedBlobs(): [string, Buffer][] {
-  const root = env.UPLOAD_DIR;
+  const root = env.UPLOAD_DIR!;
   if (!existsSync(root)) return [];
   const found: [string, Buffer][] = [];
   for (const fan of readdirSync(root)) {
@@ -222,11 +222,11 @@ async function checkConsistent(
   const sheetIds = new Set(listed.body.sheets.map((x) => x.id));
   for (const upload of s.uploads.filter((u) => u.outcome === 'acknowledged')) {
     if (upload.deleted === 'acknowledged') {
-      expect(sheetIds.has(upload.sheetIds[0])).toBe(false);
+      expect(sheetIds.has(upload.sheetIds[0]!)).toBe(false);
       continue;
     }
     if (upload.deleted === 'unknown') continue;
-    expect(sheetIds.has(upload.sheetIds[0])).toBe(true);
+    expect(sheetIds.has(upload.sheetIds[0]!)).toBe(true);
     const file = await fetch(`${client.baseUrl}${url(`/sheets/${upload.sheetIds[0]}/file`)}`, {
       headers: { Cookie: client.cookie },
     });
@@ -322,7 +322,7 @@ describe('killed mid-stream and started again', { timeout: 300_000 }, () => {
       form,
     );
     expect(uploaded.status).toBe(201);
-    expect(uploaded.body.sheets[0].file.sha256).toBe(sha256(bytes));
+    expect(uploaded.body.sheets[0]!.file.sha256).toBe(sha256(bytes));
 
     proc.child.kill('SIGTERM');
     expect(await proc.exited).toEqual({ code: 0, signal: null });
