@@ -41,9 +41,10 @@ function generatedModel(n: number) {
 
 /** CPU time all cores have spent busy since boot, ms (from /proc/stat). */
 function machineBusyMs(): number {
-  const [, ...ticks] = readFileSync('/proc/stat', 'utf8').split('\n')[0].trim().split(/\s+/);
+  const [, ...ticks] = readFileSync('/proc/stat', 'utf8').split('\n')[0]!.trim().split(/\s+/);
+  // proc(5): "cpu user nice system idle iowait irq softirq …"; Linux has printed all seven since 2.6.
   const [user, nice, system, , , irq, softirq] = ticks.map(Number);
-  return (user + nice + system + irq + softirq) * 10;
+  return (user! + nice! + system! + irq! + softirq!) * 10;
 }
 
 function rssMb(pid: number): number {
@@ -93,7 +94,7 @@ async function main() {
         body: body === undefined ? undefined : JSON.stringify(body),
       });
       const set = res.headers.get('set-cookie');
-      if (set) cookie = set.split(';')[0];
+      if (set) cookie = set.split(';')[0]!;
       return res.json();
     };
     let { csrfToken } = await call('GET', '/api/auth/session');

@@ -58,7 +58,7 @@ function generate(groups: number) {
 
 function median(xs: number[]): number {
   const s = [...xs].sort((a, b) => a - b);
-  return s.length % 2 ? s[(s.length - 1) / 2] : (s[s.length / 2 - 1] + s[s.length / 2]) / 2;
+  return s.length % 2 ? s[(s.length - 1) / 2]! : (s[s.length / 2 - 1]! + s[s.length / 2]!) / 2;
 }
 
 function timeCold(model: unknown, runs: number): number {
@@ -108,16 +108,16 @@ const sys = {
 };
 const A: number[][] = Array.from({ length: n }, (_, i) => {
   const row = new Array<number>(n).fill(0);
-  row[i] += 1;
-  row[(i + 1) % n] += 0.3;
-  row[(i + n - 1) % n] -= 0.2;
+  row[i]! += 1;
+  row[(i + 1) % n]! += 0.3;
+  row[(i + n - 1) % n]! -= 0.2;
   return row;
 });
 const denseTimes: number[] = [];
 let dense: number[] = [];
 for (let i = 0; i < 6; i++) {
   const t = performance.now();
-  dense = (lusolve(A, gVals) as number[][]).map((r) => r[0]);
+  dense = (lusolve(A, gVals) as number[][]).map((r) => r[0]!);
   if (i > 0) denseTimes.push(performance.now() - t);
 }
 const denseMs = median(denseTimes);
@@ -130,7 +130,7 @@ for (let i = 0; i < 31; i++) {
   const t = performance.now();
   const r = solvePrepared(prep, { valuesOnly: true });
   if (i > 0) ourTimes.push(performance.now() - t);
-  check = Math.max(...dense.map((v, j) => Math.abs(v - (r.values[`x${j}`].value ?? NaN))));
+  check = Math.max(...dense.map((v, j) => Math.abs(v - (r.values[`x${j}`]!.value ?? NaN))));
 }
 const oursMs = median(ourTimes);
 if (!(check < 1e-9)) throw new Error(`300-unknown system disagrees with lusolve by ${check}`);

@@ -82,7 +82,7 @@ async function main() {
       let cookie = '';
       if (layer.includes('session')) {
         const res = await fetch(`http://127.0.0.1:${port}/login`, { method: 'POST' });
-        cookie = res.headers.get('set-cookie')!.split(';')[0];
+        cookie = res.headers.get('set-cookie')!.split(';')[0]!;
       }
       const before = cpuMs(server.pid!);
       const r = await autocannon({

@@ -22,7 +22,7 @@ const options: SolveOptions = {};
 let samples: number | undefined;
 let seed: number | undefined;
 for (let i = 0; i < args.length; i++) {
-  const a = args[i];
+  const a = args[i]!;
   if (a === '--monte-carlo' || a === '--seed') {
     const v = Number(args[++i]);
     if (!Number.isInteger(v) || v < (a === '--seed' ? 0 : 1)) usage(`${a} needs a whole number`);
