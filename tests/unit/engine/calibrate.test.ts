@@ -288,10 +288,10 @@ describe('fitHomography: published and analytic cases', () => {
       (f(p.x, p.y + h).x - f(p.x, p.y - h).x) / (2 * h),
       (f(p.x, p.y + h).y - f(p.x, p.y - h).y) / (2 * h),
     ];
-    expect(Math.abs(j[0]! - dx[0]!)).toBeLessThan(1e-8);
-    expect(Math.abs(j[2]! - dx[1]!)).toBeLessThan(1e-8);
-    expect(Math.abs(j[1]! - dy[0]!)).toBeLessThan(1e-8);
-    expect(Math.abs(j[3]! - dy[1]!)).toBeLessThan(1e-8);
+    expect(Math.abs(j[0] - dx[0]!)).toBeLessThan(1e-8);
+    expect(Math.abs(j[2] - dx[1]!)).toBeLessThan(1e-8);
+    expect(Math.abs(j[1] - dy[0]!)).toBeLessThan(1e-8);
+    expect(Math.abs(j[3] - dy[1]!)).toBeLessThan(1e-8);
   });
 });
 
