@@ -197,9 +197,15 @@ function drawFramePlate(doc: Doc) {
   // Below: the chain of axle positions, as printed (it adds up to 29 3/4, not 30 1/4).
   const bottom = P(0, f.depthIn).y;
   const chainY = P(0, f.depthIn + 1.5).y;
-  const stops = [0, ...f.axlesIn, f.lengthIn];
-  stops.slice(1).forEach((u, i) => {
-    dimH(doc, P(stops[i], 0).x, P(u, 0).x, chainY, f.printedChain[i], i === 0 ? bottom : undefined);
+  const [a1, a2] = f.axlesIn;
+  const [c1, c2, c3] = f.printedChain;
+  const chain = [
+    [0, a1, c1],
+    [a1, a2, c2],
+    [a2, f.lengthIn, c3],
+  ] as const;
+  chain.forEach(([from, to, text], i) => {
+    dimH(doc, P(from, 0).x, P(to, 0).x, chainY, text, i === 0 ? bottom : undefined);
   });
   doc
     .lineWidth(0.4)
@@ -207,7 +213,6 @@ function drawFramePlate(doc: Doc) {
     .lineTo(P(f.lengthIn, 0).x, chainY + 3)
     .stroke();
   // Cut-out width and depth (leading hornblock), hole offset and rows (trailing hornblock).
-  const [a1, a2] = f.axlesIn;
   dimH(doc, P(a1 - half, 0).x, P(a1 + half, 0).x, P(0, f.depthIn + 0.6).y, '2 1/4', bottom);
   dimV(doc, P(0, cutTop).y, bottom, P(a1 - half - 1.1, 0).x, '2 1/8', P(a1 - half, 0).x);
   dimH(doc, P(a2, 0).x, P(a2 + f.hornHoleOffsetIn, 0).x, P(0, f.depthIn + 0.6).y, '1 7/16');

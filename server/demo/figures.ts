@@ -130,9 +130,11 @@ export function demoSheetFigures(toPhoto = buildDemoPhotoJpeg().toPhoto): DemoSh
     toPhoto({ x: tank.x + tank.widthMm, y: tank.y + tank.heightMm }),
     toPhoto({ x: tank.x, y: tank.y + tank.heightMm }),
   ] as [SheetPointDto, SheetPointDto, SheetPointDto, SheetPointDto];
-  const hubs = p.axlesMm.map((x) => toPhoto({ x, y: p.axleYMm }));
-  const tyreTop = toPhoto({ x: p.axlesMm[0], y: p.axleYMm - WHEEL_R });
-  const tyreBottom = toPhoto({ x: p.axlesMm[0], y: p.axleYMm + WHEEL_R });
+  const [leadingAxle, trailingAxle] = p.axlesMm;
+  const leadingHub = toPhoto({ x: leadingAxle, y: p.axleYMm });
+  const trailingHub = toPhoto({ x: trailingAxle, y: p.axleYMm });
+  const tyreTop = toPhoto({ x: leadingAxle, y: p.axleYMm - WHEEL_R });
+  const tyreBottom = toPhoto({ x: leadingAxle, y: p.axleYMm + WHEEL_R });
   const calibration: SheetCalibrationDto = {
     method: 'four-point',
     corners,
@@ -153,7 +155,7 @@ export function demoSheetFigures(toPhoto = buildDemoPhotoJpeg().toPhoto): DemoSh
     pickErrorPx: 2,
   };
   const cal = engineCalibration(calibration);
-  const measured = measureBetweenPins(cal, hubs[0], hubs[1], { pickErrorPx: 2 });
+  const measured = measureBetweenPins(cal, leadingHub, trailingHub, { pickErrorPx: 2 });
   const model = prototypeToModel(measured, parseModelScale(demoModelScale).ratio);
   const labels = ['top front', 'top rear', 'bottom rear', 'bottom front'];
   return {
@@ -167,8 +169,8 @@ export function demoSheetFigures(toPhoto = buildDemoPhotoJpeg().toPhoto): DemoSh
           ...c,
           label: `side tank panel, ${labels[i]} corner`,
         })),
-        { id: 'ph-hub-1', ...hubs[0], label: 'leading wheel, hub centre' },
-        { id: 'ph-hub-2', ...hubs[1], label: 'trailing wheel, hub centre' },
+        { id: 'ph-hub-1', ...leadingHub, label: 'leading wheel, hub centre' },
+        { id: 'ph-hub-2', ...trailingHub, label: 'trailing wheel, hub centre' },
         { id: 'ph-tyre-top', ...tyreTop, label: 'leading wheel, top of tyre' },
       ],
       measurements: [

@@ -13,6 +13,7 @@ export const round = (v: number, digits = 3) => Number(v.toFixed(digits));
 
 // ---------------------------------------------------------------------------------------------
 // The design, in model inches. Frame plate: u along from the front end, v down from the top edge.
+// Lists are fixed (`as const`): the drawing and the pins read their entries by position.
 
 export const kestrelFrame = {
   lengthIn: 30.25,
@@ -23,18 +24,18 @@ export const kestrelFrame = {
   cutoutDepthIn: 2.125,
   /** Hornblock bolt holes: columns either side of the axle centre line, rows down from the top. */
   hornHoleOffsetIn: 1.4375,
-  hornHoleRowsIn: [2.75, 3.375, 4.0],
+  hornHoleRowsIn: [2.75, 3.375, 4.0] as const,
   hornTopHoles: { offsetIn: 0.5, vIn: 2.0625 },
-  bufferAngle: { widthIn: 0.75, holeU: 0.375, holeV: [1, 2.25, 3.5] },
-  dragAngle: { fromIn: 29.5, holeU: 29.875, holeV: [1, 2.25, 3.5] },
+  bufferAngle: { widthIn: 0.75, holeU: 0.375, holeV: [1, 2.25, 3.5] as const },
+  dragAngle: { fromIn: 29.5, holeU: 29.875, holeV: [1, 2.25, 3.5] as const },
   /** Stretcher holes; the one at 22 1/2 is drawn but its position along is not dimensioned. */
   stretchers: [
     { u: 4.125, v: [1.5, 3.0], name: 'front stretcher' },
     { u: 13, v: [1.25, 2.0], name: 'motion stretcher' },
     { u: 22.5, v: [1.75, 2.75], name: 'rear stretcher' },
-  ],
+  ] as const,
   /** The chain along the bottom as printed; the last figure should read 13. */
-  printedChain: ['8 3/4', '8 1/2', '12 1/2'],
+  printedChain: ['8 3/4', '8 1/2', '12 1/2'] as const,
   holeDiaIn: 0.13,
 };
 
@@ -57,7 +58,7 @@ export const kestrelHornblock = {
   slotTopIn: 0.75,
   spigotWidthIn: 2.25,
   holeOffsetIn: 1.4375,
-  holeRowsIn: [0.875, 1.5, 2.125],
+  holeRowsIn: [0.875, 1.5, 2.125] as const,
   topHoles: { offsetIn: 0.5, vIn: 0.1875 },
   flangeIn: 0.1875,
   webDepthIn: 0.8125,

@@ -120,13 +120,14 @@ class FlatRaster {
     const fy = (y - this.y0) / this.mmPerPx - 0.5;
     const i = Math.floor(fx);
     const j = Math.floor(fy);
+    // Inside the raster: the four neighbours' entries of data exist.
     if (i < 0 || j < 0 || i + 1 >= this.width || j + 1 >= this.height) return false;
     const [tx, ty] = [fx - i, fy - j];
     for (let c = 0; c < 3; c++) {
       const k = 3 * (j * this.width + i) + c;
-      const top = this.data[k] * (1 - tx) + this.data[k + 3] * tx;
+      const top = this.data[k]! * (1 - tx) + this.data[k + 3]! * tx;
       const k2 = k + 3 * this.width;
-      const bottom = this.data[k2] * (1 - tx) + this.data[k2 + 3] * tx;
+      const bottom = this.data[k2]! * (1 - tx) + this.data[k2 + 3]! * tx;
       out[c] = top * (1 - ty) + bottom * ty;
     }
     return true;
@@ -187,7 +188,7 @@ function paintEngine(r: FlatRaster) {
   for (const [x1, x2, bx] of [
     [-150, 0, -600],
     [L, L + 150, L + 600],
-  ]) {
+  ] as const) {
     r.rect(x1, 2300, x2, 2950, RED);
     r.rect(Math.min(bx, x1), 2560, Math.max(bx, x2), 2690, STEEL);
     r.rect(bx - 30, 2440, bx + 30, 2810, STEEL);
@@ -271,7 +272,7 @@ export function buildDemoPhotoJpeg(): {
   paintEngine(flat);
 
   const rgba = Buffer.alloc(width * height * 4);
-  const px = [0, 0, 0];
+  const px: [number, number, number] = [0, 0, 0];
   const noise = grain(11);
   const m = H.matrix;
   for (let j = 0; j < height; j++) {

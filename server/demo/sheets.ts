@@ -34,6 +34,9 @@ export async function seedDemoSheets(
     { originalName: 'kestrel-K1-frames.pdf', bytes: await buildDemoDrawingPdf() },
     { originalName: 'kestrel-prototype-side.jpg', bytes: photo.jpeg },
   ]);
+  if (!page1 || !page2 || !picture) {
+    throw new Error('The demo upload answered fewer than its three sheets (two pages, a photo).');
+  }
   const frame = await sheets.update(projectId, page1.id, {
     revision: page1.revision,
     title: 'K-1 sheet 1 — frame plate, side view',
