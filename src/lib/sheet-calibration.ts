@@ -1,5 +1,6 @@
 import {
   buildSheetCalibration,
+  measuredTolerance,
   referenceOf,
   type BuiltCalibration,
   type SheetCalibrationDto,
@@ -10,30 +11,16 @@ import {
   checkCalibration,
   convertLength,
   formatLength,
-  LENGTH_PLACES,
-  measureBetweenPins,
   parseModelScale,
   parseQuantity,
-  prototypeToModel,
-  roundUpTo,
   type CalibrationCheck,
   type ModelUnit,
-  type SheetPoint,
 } from '@shared/engine';
 
 export interface CalibrationResidual {
   checks: readonly CalibrationCheck[];
   rmsMm: number;
   maxAbsMm: number;
-}
-
-/** A length between two pins at model size, with its ± (already at model size too). */
-export interface SheetMeasure {
-  lengthMm: number;
-  uncertaintyMm: number;
-  pickMm: number;
-  calibrationMm: number;
-  limitedByFloor: boolean;
 }
 
 export { referenceOf, type BuiltCalibration };
@@ -69,27 +56,6 @@ export function calibrationResidual(
   } catch {
     return null;
   }
-}
-
-/**
- * The model-size length between two sheet points and its ±: the calibration's own
- * uncertainty and the pins' pick error, never below the engine's floor; a photo of the
- * prototype divides both by the model scale.
- */
-export function measureOnSheet(
-  built: BuiltCalibration,
-  a: SheetPoint,
-  b: SheetPoint,
-): SheetMeasure {
-  const m = measureBetweenPins(built.cal, a, b, { pickErrorPx: built.pickErrorPx });
-  const atModel = prototypeToModel(m, built.ratio);
-  return {
-    lengthMm: atModel.lengthMm,
-    uncertaintyMm: atModel.uncertaintyMm,
-    pickMm: m.pickMm * built.ratio,
-    calibrationMm: m.calibrationMm * built.ratio,
-    limitedByFloor: m.limitedByFloor,
-  };
 }
 
 export type LengthParse = { ok: true; mm: number } | { ok: false; message: string };
@@ -133,8 +99,6 @@ export function parseScale(
 
 /** A length in the model unit with its unit, rounded for the model (value) or up (tolerance). */
 export function writeLength(mm: number, unit: ModelUnit, roundUp = false): string {
-  if (!roundUp) return formatLength(mm, 'mm', unit);
   // A tolerance rounds up, so writing it never makes it better than measured.
-  const up = roundUpTo(convertLength(mm, 'mm', unit), LENGTH_PLACES[unit]);
-  return formatLength(up, unit, unit);
+  return roundUp ? measuredTolerance(mm, unit) : formatLength(mm, 'mm', unit);
 }
