@@ -166,9 +166,9 @@ export function summariseDiff(diff: ModelDiff, limit = 4): string {
     if (d.change === 'added') parts.push(`added ${d.key}`);
     else if (d.change === 'removed') parts.push(`removed ${d.key}`);
     else {
-      const f = d.fields[0];
+      const [f, ...more] = d.fields;
       parts.push(
-        d.fields.length === 1
+        f && more.length === 0
           ? `${d.key} ${fieldWords(f.field)} ${show(f.from)} → ${show(f.to)}`
           : `${d.key} edited`,
       );

@@ -32,7 +32,7 @@ export function linearizeBlock(
   const rows: SparseRow[] = [];
   const outer: Array<{ idx: number[]; val: number[] }> = [];
   for (let i = 0; i < n; i++) {
-    const rel = relations[i];
+    const rel = relations[i]!;
     const k = rel.vars.length;
     const g = new Float64Array(k);
     F[i] = rel.gradient(x, g);
@@ -41,14 +41,14 @@ export function linearizeBlock(
     const oi: number[] = [];
     const ov: number[] = [];
     for (let j = 0; j < k; j++) {
-      const gi = rel.vars[j];
-      const c = colOf[gi];
+      const gi = rel.vars[j]!;
+      const c = colOf[gi]!;
       if (c >= 0) {
         cols.push(c);
-        vals.push(g[j]);
+        vals.push(g[j]!);
       } else if (withOuter && g[j] !== 0) {
         oi.push(gi);
-        ov.push(g[j]);
+        ov.push(g[j]!);
       }
     }
     rows.push({ cols, vals });

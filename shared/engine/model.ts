@@ -317,14 +317,15 @@ export function impliedTolerance(
   if (quantity === 'angle') return defaults.angleDeg;
   const family: ModelUnit = q.exact.base === 'plain' ? unit : q.exact.base === 'mm' ? 'mm' : 'in';
   if (family === 'in') {
+    // The schema holds exactly four inch places (1 to 4), read here by their number.
     let tolIn: number;
     if (q.form === 'decimal' || q.unit === 'thou') {
       const places = q.decimals + (q.unit === 'thou' ? 3 : 0);
       if (places === 0) tolIn = defaults.inchFraction;
-      else if (places <= 4) tolIn = defaults.inchDecimal[places - 1];
+      else if (places <= 4) tolIn = defaults.inchDecimal[places - 1]!;
       else tolIn = 5 * 10 ** -places;
     } else if (q.form === 'feet-inches' && q.decimals > 0) {
-      tolIn = q.decimals <= 4 ? defaults.inchDecimal[q.decimals - 1] : 5 * 10 ** -q.decimals;
+      tolIn = q.decimals <= 4 ? defaults.inchDecimal[q.decimals - 1]! : 5 * 10 ** -q.decimals;
     } else {
       tolIn = defaults.inchFraction;
     }
@@ -332,7 +333,8 @@ export function impliedTolerance(
   }
   const mm = Math.abs(quantityIn(q, 'mm'));
   const ranges = defaults.mmRanges;
-  const row = ranges.find((r) => mm <= r.upTo) ?? ranges[ranges.length - 1];
+  // Past the last range the last one holds; the schema requires at least one.
+  const row = ranges.find((r) => mm <= r.upTo) ?? ranges[ranges.length - 1]!;
   return convertLength(row.tol, 'mm', unit);
 }
 

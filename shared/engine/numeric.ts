@@ -131,14 +131,14 @@ export function factorDense(
   const a = Float64Array.from(matrix as ArrayLike<number>);
   const piv = new Int32Array(n);
   let maxAbs = 0;
-  for (let i = 0; i < n * n; i++) maxAbs = Math.max(maxAbs, Math.abs(a[i]));
+  for (let i = 0; i < n * n; i++) maxAbs = Math.max(maxAbs, Math.abs(a[i]!));
   if (maxAbs === 0 || !Number.isFinite(maxAbs)) return null;
   const tiny = maxAbs * singularRatio;
   for (let k = 0; k < n; k++) {
     let p = k;
-    let best = Math.abs(a[k * n + k]);
+    let best = Math.abs(a[k * n + k]!);
     for (let i = k + 1; i < n; i++) {
-      const v = Math.abs(a[i * n + k]);
+      const v = Math.abs(a[i * n + k]!);
       if (v > best) {
         best = v;
         p = i;
@@ -148,17 +148,17 @@ export function factorDense(
     piv[k] = p;
     if (p !== k) {
       for (let j = 0; j < n; j++) {
-        const t = a[k * n + j];
-        a[k * n + j] = a[p * n + j];
+        const t = a[k * n + j]!;
+        a[k * n + j] = a[p * n + j]!;
         a[p * n + j] = t;
       }
     }
-    const pivot = a[k * n + k];
+    const pivot = a[k * n + k]!;
     for (let i = k + 1; i < n; i++) {
-      const f = a[i * n + k] / pivot;
+      const f = a[i * n + k]! / pivot;
       if (f === 0) continue;
       a[i * n + k] = f;
-      for (let j = k + 1; j < n; j++) a[i * n + j] -= f * a[k * n + j];
+      for (let j = k + 1; j < n; j++) a[i * n + j]! -= f * a[k * n + j]!;
     }
   }
   return {
@@ -171,21 +171,21 @@ export function factorDense(
       // swap between elimination steps, as an elimination that swaps only the active columns
       // would, reads multipliers that later swaps have moved.)
       for (let k = 0; k < n; k++) {
-        const p = piv[k];
+        const p = piv[k]!;
         if (p !== k) {
-          const t = x[k];
-          x[k] = x[p];
+          const t = x[k]!;
+          x[k] = x[p]!;
           x[p] = t;
         }
       }
       for (let k = 0; k < n; k++) {
-        const xk = x[k];
-        if (xk !== 0) for (let i = k + 1; i < n; i++) x[i] -= a[i * n + k] * xk;
+        const xk = x[k]!;
+        if (xk !== 0) for (let i = k + 1; i < n; i++) x[i]! -= a[i * n + k]! * xk;
       }
       for (let i = n - 1; i >= 0; i--) {
-        let s = x[i];
-        for (let j = i + 1; j < n; j++) s -= a[i * n + j] * x[j];
-        x[i] = s / a[i * n + i];
+        let s = x[i]!;
+        for (let j = i + 1; j < n; j++) s -= a[i * n + j]! * x[j]!;
+        x[i] = s / a[i * n + i]!;
       }
       return x;
     },
@@ -221,18 +221,18 @@ export function factorSparse(n: number, rows: readonly SparseRow[]): LinearFacto
     tick++;
     const cols: number[] = [];
     const vals: number[] = [];
-    const r = rows[i];
+    const r = rows[i]!;
     for (let t = 0; t < r.cols.length; t++) {
-      const v = r.vals[t];
+      const v = r.vals[t]!;
       if (v === 0) continue;
-      const c = r.cols[t];
-      if (stamp[c] === tick) vals[pos[c]] += v;
+      const c = r.cols[t]!;
+      if (stamp[c] === tick) vals[pos[c]!]! += v;
       else {
         stamp[c] = tick;
         pos[c] = cols.length;
         cols.push(c);
         vals.push(v);
-        colRows[c].push(i);
+        colRows[c]!.push(i);
       }
       maxAbs = Math.max(maxAbs, Math.abs(v));
     }
@@ -243,8 +243,8 @@ export function factorSparse(n: number, rows: readonly SparseRow[]): LinearFacto
   const tiny = maxAbs * SINGULAR_RATIO;
   const done = new Uint8Array(n);
   const valueAt = (i: number, c: number): number => {
-    const cols = rc[i];
-    for (let t = 0; t < cols.length; t++) if (cols[t] === c) return rv[i][t];
+    const cols = rc[i]!;
+    for (let t = 0; t < cols.length; t++) if (cols[t] === c) return rv[i]![t]!;
     return 0;
   };
   const pivotRow = new Int32Array(n);
@@ -260,7 +260,7 @@ export function factorSparse(n: number, rows: readonly SparseRow[]): LinearFacto
     cand.length = 0;
     candVal.length = 0;
     let best = 0;
-    for (const i of colRows[c]) {
+    for (const i of colRows[c]!) {
       if (done[i]) continue;
       const v = valueAt(i, c);
       if (v === 0) continue;
@@ -272,23 +272,25 @@ export function factorSparse(n: number, rows: readonly SparseRow[]): LinearFacto
     let pi = -1;
     for (let t = 0; t < cand.length; t++) {
       if (
-        Math.abs(candVal[t]) >= 0.1 * best &&
-        (pi < 0 || rc[cand[t]].length < rc[cand[pi]].length)
+        Math.abs(candVal[t]!) >= 0.1 * best &&
+        (pi < 0 || rc[cand[t]!]!.length < rc[cand[pi]!]!.length)
       )
         pi = t;
     }
-    const p = cand[pi];
-    const pv = candVal[pi];
+    // best > tiny, so the largest candidate passed the 10 % test: pi is a candidate.
+    const p = cand[pi]!;
+    const pv = candVal[pi]!;
     done[p] = 1;
     pivotRow[c] = p;
-    const pc = rc[p];
-    const pvals = rv[p];
+    const pc = rc[p]!;
+    const pvals = rv[p]!;
     const ucols: number[] = [];
     const uvals: number[] = [];
     for (let t = 0; t < pc.length; t++) {
-      if (pc[t] !== c) {
-        ucols.push(pc[t]);
-        uvals.push(pvals[t]);
+      const col = pc[t]!;
+      if (col !== c) {
+        ucols.push(col);
+        uvals.push(pvals[t]!);
       }
     }
     uDiag[c] = pv;
@@ -296,34 +298,34 @@ export function factorSparse(n: number, rows: readonly SparseRow[]): LinearFacto
     uVals[c] = uvals;
     for (let t = 0; t < cand.length; t++) {
       if (t === pi) continue;
-      const i = cand[t];
-      const f = candVal[t] / pv;
+      const i = cand[t]!;
+      const f = candVal[t]! / pv;
       opsRow.push(i);
       opsPivot.push(p);
       opsFactor.push(f);
-      const cols = rc[i];
-      const vals = rv[i];
+      const cols = rc[i]!;
+      const vals = rv[i]!;
       tick++;
       for (let q = 0; q < cols.length; q++) {
-        stamp[cols[q]] = tick;
-        pos[cols[q]] = q;
+        stamp[cols[q]!] = tick;
+        pos[cols[q]!] = q;
       }
       for (let q = 0; q < ucols.length; q++) {
-        const col = ucols[q];
-        if (stamp[col] === tick) vals[pos[col]] -= f * uvals[q];
+        const col = ucols[q]!;
+        if (stamp[col] === tick) vals[pos[col]!]! -= f * uvals[q]!;
         else {
           stamp[col] = tick;
           pos[col] = cols.length;
           cols.push(col);
-          vals.push(-f * uvals[q]);
-          colRows[col].push(i);
+          vals.push(-f * uvals[q]!);
+          colRows[col]!.push(i);
         }
       }
       // Drop column c from the row (swap with the last entry).
-      const at = pos[c];
+      const at = pos[c]!;
       const last = cols.length - 1;
-      cols[at] = cols[last];
-      vals[at] = vals[last];
+      cols[at] = cols[last]!;
+      vals[at] = vals[last]!;
       cols.pop();
       vals.pop();
     }
@@ -332,14 +334,14 @@ export function factorSparse(n: number, rows: readonly SparseRow[]): LinearFacto
     n,
     solve(b) {
       const y = Float64Array.from(b as ArrayLike<number>);
-      for (let t = 0; t < opsRow.length; t++) y[opsRow[t]] -= opsFactor[t] * y[opsPivot[t]];
+      for (let t = 0; t < opsRow.length; t++) y[opsRow[t]!]! -= opsFactor[t]! * y[opsPivot[t]!]!;
       const x = new Float64Array(n);
       for (let c = n - 1; c >= 0; c--) {
-        let s = y[pivotRow[c]];
-        const cols = uCols[c];
-        const vals = uVals[c];
-        for (let t = 0; t < cols.length; t++) s -= vals[t] * x[cols[t]];
-        x[c] = s / uDiag[c];
+        let s = y[pivotRow[c]!]!;
+        const cols = uCols[c]!;
+        const vals = uVals[c]!;
+        for (let t = 0; t < cols.length; t++) s -= vals[t]! * x[cols[t]!]!;
+        x[c] = s / uDiag[c]!;
       }
       return x;
     },
@@ -358,8 +360,8 @@ export function factorRows(n: number, rows: readonly SparseRow[]): LinearFactor 
   if (n > DENSE_LIMIT) return factorSparse(n, rows);
   const a = new Float64Array(n * n);
   for (let i = 0; i < n; i++) {
-    const r = rows[i];
-    for (let t = 0; t < r.cols.length; t++) a[i * n + r.cols[t]] += r.vals[t];
+    const r = rows[i]!;
+    for (let t = 0; t < r.cols.length; t++) a[i * n + r.cols[t]!]! += r.vals[t]!;
   }
   return factorDense(n, a);
 }
@@ -368,7 +370,7 @@ export function factorRows(n: number, rows: readonly SparseRow[]): LinearFactor 
 export function maxAbs(v: ArrayLike<number>): number {
   let m = 0;
   for (let i = 0; i < v.length; i++) {
-    const a = Math.abs(v[i]);
+    const a = Math.abs(v[i]!);
     if (a > m || Number.isNaN(a)) m = a;
   }
   return m;

@@ -120,7 +120,7 @@ class Scanner {
   pos = 0;
   constructor(readonly s: string) {}
   spaces(): void {
-    while (this.pos < this.s.length && /\s/.test(this.s[this.pos])) this.pos++;
+    while (this.pos < this.s.length && /\s/.test(this.s[this.pos]!)) this.pos++;
   }
   peek(): string {
     return this.s[this.pos] ?? '';
@@ -215,7 +215,7 @@ function readNumberPart(sc: Scanner): NumberPart {
     if (joined) {
       const m = /^(\d+)\s*\/\s*(\d+)/.exec(sc.s.slice(sc.pos));
       if (m) {
-        const denAt = sc.pos + m[0].length - m[2].length;
+        const denAt = sc.pos + m[0].length - m[2]!.length; // both groups are required
         const den = Number(m[2]);
         if (den === 0)
           throw new QuantityError('a fraction needs a whole denominator greater than 0', denAt);
@@ -247,7 +247,7 @@ function readUnit(sc: Scanner): { unit: QuantityUnit; at: number } | null {
   const c = sc.peek();
   if (c === '"' || c === "'" || c === '°') {
     sc.pos++;
-    return { unit: UNIT_WORDS[c], at };
+    return { unit: UNIT_WORDS[c]!, at }; // each of these marks is a unit word
   }
   const m = /^[A-Za-z]+/.exec(sc.s.slice(sc.pos));
   if (m) {
@@ -387,7 +387,7 @@ export function parseMixedNumber(text: string): number | undefined {
     .trim()
     // `1 ½` and `1½` are `1 1/2`.
     .replace(/^(\d*)\s*([½¼¾⅛⅜⅝⅞⅓⅔⅙⅚⅕])$/, (_, whole: string, f: string) =>
-      whole ? `${whole} ${VULGAR_FRACTIONS[f]}` : VULGAR_FRACTIONS[f],
+      whole ? `${whole} ${VULGAR_FRACTIONS[f]}` : VULGAR_FRACTIONS[f]!,
     )
     // Any run of spaces and hyphens joins a whole number to its fraction.
     .replace(/^(\d+)[\s-]+(?=\d+\/)/, '$1 ');

@@ -259,20 +259,24 @@ const UNIFIED_THREADS: readonly ThreadSpec[] = UNIFIED_ROWS.flatMap(([size, unc,
 // the series as remembered (9/32 and 5/16 × 40, 7/16 and 1/2 × 32) is not served until a
 // published table shows it.
 const ME_THREADS: readonly ThreadSpec[] = [
-  ...[
-    [1, 8],
-    [5, 32],
-    [3, 16],
-    [7, 32],
-    [1, 4],
-    [3, 8],
-  ].map(([n, d]) => meThread(fraction(n, d), 40)),
-  ...[
-    [1, 4],
-    [9, 32],
-    [5, 16],
-    [3, 8],
-  ].map(([n, d]) => meThread(fraction(n, d), 32)),
+  ...(
+    [
+      [1, 8],
+      [5, 32],
+      [3, 16],
+      [7, 32],
+      [1, 4],
+      [3, 8],
+    ] as const
+  ).map(([n, d]) => meThread(fraction(n, d), 40)),
+  ...(
+    [
+      [1, 4],
+      [9, 32],
+      [5, 16],
+      [3, 8],
+    ] as const
+  ).map(([n, d]) => meThread(fraction(n, d), 32)),
 ];
 
 const ALL_THREADS: readonly ThreadSpec[] = Object.freeze([
@@ -361,7 +365,8 @@ export function threadByDesignation(text: string): ThreadSpec {
     const tpi = Number(inch[4]);
     const series = inch[5]?.toUpperCase() as 'UNC' | 'UNF' | 'ME' | undefined;
     const isNumbered = inch[2] !== undefined;
-    const sizeIn = isNumbered ? 0.06 + 0.013 * Number(inch[2]) : parseInchSize(inch[3]);
+    // Without a number the size is written out: the third group matched.
+    const sizeIn = isNumbered ? 0.06 + 0.013 * Number(inch[2]) : parseInchSize(inch[3]!);
     const sizeText = isNumbered ? `#${Number(inch[2])}` : inch[3];
     if (sizeIn === undefined)
       fail('unrecognised-designation', `Cannot read size "${sizeText}"`, input);
@@ -714,20 +719,20 @@ export function clearanceFor(thread: ThreadSpec | string): ClearanceAnswer {
     }
     case 'UNC':
     case 'UNF': {
-      const size = t.designation.split('-')[0];
+      const size = t.designation.split('-')[0]!; // split answers at least one part
       const [c, f] = UNIFIED_CLEARANCE.get(size) as readonly [string, string];
       close = recommendation(c, SRC_CLEAR_UNIFIED);
       free = recommendation(f, SRC_CLEAR_UNIFIED);
       break;
     }
     case 'BA': {
-      const [c, cSrc, f, fSrc] = BA_CLEARANCE[Number.parseInt(t.designation, 10)];
+      const [c, cSrc, f, fSrc] = BA_CLEARANCE[Number.parseInt(t.designation, 10)]!;
       close = recommendation(c, cSrc);
       free = recommendation(f, fSrc);
       break;
     }
     case 'ME': {
-      const size = t.designation.split('x')[0];
+      const size = t.designation.split('x')[0]!;
       const stock = nearestDrill(t.majorDiameterMm + 0.1, 'metric', { mode: 'atLeast' });
       close = { label: stock.label, mm: stock.mm, inch: stock.inch, source: SRC_CLEAR_CLOSE_RULE };
       free = recommendation(mmLabel(ME_CLEARANCE.get(size) as number), SRC_CLEAR_ME);
