@@ -62,8 +62,8 @@ export function reconcileRedundant(input: ReconcileInput): {
     let allowed = 0;
     let c = rr.residual;
     for (const [g, a] of rr.gradient) {
-      allowed += Math.abs(a) * halfBand[g];
-      c += a * shift[g];
+      allowed += Math.abs(a) * halfBand[g]!;
+      c += a * shift[g]!;
     }
     centred.push(c);
     allowedOf.push(allowed);
@@ -77,8 +77,8 @@ export function reconcileRedundant(input: ReconcileInput): {
   const parent = redundant.map((_, i) => i);
   const find = (a: number): number => {
     while (parent[a] !== a) {
-      parent[a] = parent[parent[a]];
-      a = parent[a];
+      parent[a] = parent[parent[a]!]!;
+      a = parent[a]!;
     }
     return a;
   };
@@ -107,7 +107,7 @@ export function reconcileRedundant(input: ReconcileInput): {
       table = rankSuspects(groupOf.get(root)!, input, centred);
       suspectsCache.set(root, table);
     }
-    const rr = redundant[i];
+    const rr = redundant[i]!; // failing holds indexes into redundant
     const suspects = [...rr.gradient.keys()]
       .filter((g) => table.has(g))
       .map((g) => table.get(g)!)
@@ -121,7 +121,7 @@ export function reconcileRedundant(input: ReconcileInput): {
       relation: rr.id,
       relations: rr.relations,
       residual: rr.residual,
-      allowed: allowedOf[i],
+      allowed: allowedOf[i]!,
       suspects,
     });
   }
@@ -138,7 +138,7 @@ function rankSuspects(
   const k = members.length;
   const cols = new Map<number, Float64Array>();
   members.forEach((m, row) => {
-    for (const [g, a] of redundant[m].gradient) {
+    for (const [g, a] of redundant[m]!.gradient) {
       let col = cols.get(g);
       if (!col) {
         col = new Float64Array(k);
@@ -147,45 +147,45 @@ function rankSuspects(
       col[row] = a;
     }
   });
-  const r = Float64Array.from(members, (m) => centred[m]);
+  const r = Float64Array.from(members, (m) => centred[m]!);
   const Q = new Float64Array(k * k);
   for (const [g, col] of cols) {
-    const t2 = halfBand[g] * halfBand[g];
+    const t2 = halfBand[g]! * halfBand[g]!;
     if (t2 === 0) continue;
     for (let i = 0; i < k; i++) {
       if (col[i] === 0) continue;
-      for (let j = 0; j < k; j++) Q[i * k + j] += col[i] * col[j] * t2;
+      for (let j = 0; j < k; j++) Q[i * k + j]! += col[i]! * col[j]! * t2;
     }
   }
   // Exact inputs give no weights: fall back to unit weights; a rank-deficient Q gets a ridge.
   let trace = 0;
-  for (let i = 0; i < k; i++) trace += Q[i * k + i];
+  for (let i = 0; i < k; i++) trace += Q[i * k + i]!;
   if (trace === 0) for (let i = 0; i < k; i++) Q[i * k + i] = 1;
   let factor = factorDense(k, Q);
   if (!factor) {
-    for (let i = 0; i < k; i++) Q[i * k + i] += TOLERANCES.ridge * (trace || 1);
+    for (let i = 0; i < k; i++) Q[i * k + i]! += TOLERANCES.ridge * (trace || 1);
     factor = factorDense(k, Q);
   }
   const out = new Map<number, Suspect>();
   if (!factor) return out;
   const Qr = factor.solve(r);
   let chi2 = 0;
-  for (let i = 0; i < k; i++) chi2 += r[i] * Qr[i];
+  for (let i = 0; i < k; i++) chi2 += r[i]! * Qr[i]!;
   for (const [g, col] of cols) {
     if (protectedValue(g)) continue;
     const Qa = factor.solve(col);
     let num = 0;
     let den = 0;
     for (let i = 0; i < k; i++) {
-      num += col[i] * Qr[i];
-      den += col[i] * Qa[i];
+      num += col[i]! * Qr[i]!;
+      den += col[i]! * Qa[i]!;
     }
     if (!(den > 0)) continue;
     const correction = -num / den;
     const score = chi2 > 0 ? Math.min(1, (num * num) / (den * chi2)) : 0;
-    const t = halfBand[g];
+    const t = halfBand[g]!;
     out.set(g, {
-      name: names[g],
+      name: names[g]!,
       score,
       correction,
       normalised: t > 0 ? Math.abs(correction) / t : null,

@@ -49,22 +49,22 @@ export function propagateSensitivities(
   const colOf = new Int32Array(x.length).fill(-1);
   for (const block of blocks) {
     const n = block.unknowns.length;
-    if (n === 1 && block.relations[0].affine) {
+    const [rel] = block.relations;
+    if (n === 1 && rel?.affine) {
       // The common case (one affine relation fixing one value) straight from its coefficients.
-      const rel = block.relations[0];
-      const { a } = rel.affine!;
-      const u = block.unknowns[0];
+      const { a } = rel.affine;
+      const u = block.unknowns[0]!;
       let J = 0;
-      for (let j = 0; j < a.length; j++) if (rel.vars[j] === u) J += a[j];
+      for (let j = 0; j < a.length; j++) if (rel.vars[j] === u) J += a[j]!;
       if (J === 0) continue;
       const out: Sensitivity = new Map();
       let missing = false;
       for (let j = 0; j < a.length && !missing; j++) {
-        const v = rel.vars[j];
+        const v = rel.vars[j]!;
         if (v === u || a[j] === 0) continue;
         const s = sens[v];
         if (!s) missing = true;
-        else for (const [g, w] of s) addTo(out, g, (-a[j] * w) / J);
+        else for (const [g, w] of s) addTo(out, g, (-a[j]! * w) / J);
       }
       if (!missing) sens[u] = out;
       continue;
@@ -76,26 +76,26 @@ export function propagateSensitivities(
     let missing = false;
     for (let i = 0; i < n && !missing; i++) {
       const m: Sensitivity = new Map();
-      const { idx, val } = lin.outer[i];
+      const { idx, val } = lin.outer[i]!;
       for (let t = 0; t < idx.length; t++) {
-        const s = sens[idx[t]];
+        const s = sens[idx[t]!];
         if (!s) {
           missing = true;
           break;
         }
-        for (const [g, v] of s) addTo(m, g, val[t] * v);
+        for (const [g, v] of s) addTo(m, g, val[t]! * v);
       }
       M.push(m);
     }
     if (missing) continue;
     if (n === 1) {
-      const row = lin.rows[0];
+      const row = lin.rows[0]!;
       let J = 0;
-      for (let t = 0; t < row.cols.length; t++) J += row.vals[t];
+      for (let t = 0; t < row.cols.length; t++) J += row.vals[t]!;
       if (J === 0 || !Number.isFinite(J)) continue;
       const out: Sensitivity = new Map();
-      for (const [g, v] of M[0]) addTo(out, g, -v / J);
-      sens[block.unknowns[0]] = out;
+      for (const [g, v] of M[0]!) addTo(out, g, -v / J);
+      sens[block.unknowns[0]!] = out;
       continue;
     }
     const factor = factorRows(n, lin.rows);
@@ -105,9 +105,9 @@ export function propagateSensitivities(
     const outs: Sensitivity[] = block.unknowns.map(() => new Map());
     const b = new Float64Array(n);
     for (const g of keys) {
-      for (let i = 0; i < n; i++) b[i] = -(M[i].get(g) ?? 0);
+      for (let i = 0; i < n; i++) b[i] = -(M[i]!.get(g) ?? 0);
       const col = factor.solve(b);
-      for (let c = 0; c < n; c++) addTo(outs[c], g, col[c]);
+      for (let c = 0; c < n; c++) addTo(outs[c]!, g, col[c]!);
     }
     block.unknowns.forEach((u, c) => (sens[u] = outs[c]));
   }
@@ -134,9 +134,9 @@ export function totalDerivative(
   const out: Sensitivity = new Map();
   for (let j = 0; j < g.length; j++) {
     if (g[j] === 0) continue;
-    const s = sens[rel.vars[j]];
+    const s = sens[rel.vars[j]!];
     if (!s) return null;
-    for (const [k, v] of s) addTo(out, k, g[j] * v);
+    for (const [k, v] of s) addTo(out, k, g[j]! * v);
   }
   return out;
 }
@@ -173,14 +173,14 @@ export function stackUp(
   let variance = 0;
   let meanShift = 0;
   for (const [g, v] of s) {
-    const t = halfBand[g];
+    const t = halfBand[g]!;
     wc += Math.abs(v) * t;
     variance += v * t * (v * t);
-    meanShift += v * shift[g];
+    meanShift += v * shift[g]!;
   }
   const terms: StackUpTerm[] = [];
   for (const [g, v] of s) {
-    const st = v * halfBand[g];
+    const st = v * halfBand[g]!;
     terms.push({ index: g, sensitivity: v, share: variance > 0 ? (st * st) / variance : 0 });
   }
   terms.sort(
@@ -271,13 +271,13 @@ export function runMonteCarlo(input: MonteCarloInput): MonteCarloResult {
       failed++;
       continue;
     }
-    targets.forEach((t, i) => (record[i][kept] = x[t.index]));
+    targets.forEach((t, i) => (record[i]![kept] = x[t.index]!));
     kept++;
   }
   onProgress?.(samples, samples);
   const values: Record<string, MonteCarloValue> = {};
   targets.forEach((t, i) => {
-    const data = record[i].subarray(0, kept);
+    const data = record[i]!.subarray(0, kept);
     values[t.name] = summarise(data, bins);
   });
   return { samples, seed, failed, values };
@@ -293,7 +293,7 @@ function summarise(data: Float64Array, bins: number): MonteCarloValue {
   let min = Infinity;
   let max = -Infinity;
   for (let i = 0; i < n; i++) {
-    const v = data[i];
+    const v = data[i]!;
     const d = v - mean;
     mean += d / (i + 1);
     m2 += d * (v - mean);
@@ -308,8 +308,8 @@ function summarise(data: Float64Array, bins: number): MonteCarloValue {
       ? Array.from({ length: bins + 1 }, (_, i) => (i === bins ? max : min + i * width))
       : [min, max];
   for (let i = 0; i < n; i++) {
-    const b = width > 0 ? Math.min(bins - 1, Math.floor((data[i] - min) / width)) : 0;
-    counts[b]++;
+    const b = width > 0 ? Math.min(bins - 1, Math.floor((data[i]! - min) / width)) : 0;
+    counts[b]!++;
   }
   return { mean, sigma, min, max, histogram: { edges, counts } };
 }

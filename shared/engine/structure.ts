@@ -12,7 +12,8 @@
  *   fall into strongly connected blocks (Tarjan), emitted so that every block comes after the
  *   blocks it depends on. The over-determined part's matched relations are solved the same way,
  *   so its unknowns get values and the redundant relations can be evaluated.
- * All graph walks are iterative so long chains cannot overflow the call stack.
+ * All graph walks are iterative so long chains cannot overflow the call stack. Every index is a
+ * relation or unknown number below the count its array was sized by, hence the `!` on reads.
  */
 
 export interface StructureBlock {
@@ -60,11 +61,11 @@ export function maximumMatching(
   const mL = new Int32Array(relationCount).fill(-1);
   const mR = new Int32Array(unknownCount).fill(-1);
   for (let r = 0; r < relationCount; r++) {
-    const e = edges[r];
+    const e = edges[r]!;
     for (let t = 0; t < e.length; t++) {
-      if (mR[e[t]] < 0) {
-        mL[r] = e[t];
-        mR[e[t]] = r;
+      if (mR[e[t]!]! < 0) {
+        mL[r] = e[t]!;
+        mR[e[t]!] = r;
         break;
       }
     }
@@ -78,20 +79,20 @@ export function maximumMatching(
     let qh = 0;
     let qt = 0;
     for (let r = 0; r < relationCount; r++) {
-      if (mL[r] < 0) {
+      if (mL[r]! < 0) {
         dist[r] = 0;
         queue[qt++] = r;
       } else dist[r] = INF;
     }
     let found = false;
     while (qh < qt) {
-      const r = queue[qh++];
-      const e = edges[r];
+      const r = queue[qh++]!;
+      const e = edges[r]!;
       for (let t = 0; t < e.length; t++) {
-        const w = mR[e[t]];
+        const w = mR[e[t]!]!;
         if (w < 0) found = true;
         else if (dist[w] === INF) {
-          dist[w] = dist[r] + 1;
+          dist[w] = dist[r]! + 1;
           queue[qt++] = w;
         }
       }
@@ -100,31 +101,31 @@ export function maximumMatching(
     it.fill(0);
     let augmented = false;
     for (let s = 0; s < relationCount; s++) {
-      if (mL[s] >= 0) continue;
+      if (mL[s]! >= 0) continue;
       let top = 0;
       stack[0] = s;
       while (top >= 0) {
-        const v = stack[top];
-        const e = edges[v];
-        if (it[v] >= e.length) {
+        const v = stack[top]!;
+        const e = edges[v]!;
+        if (it[v]! >= e.length) {
           dist[v] = INF;
           top--;
           continue;
         }
-        const u = e[it[v]++];
-        const w = mR[u];
+        const u = e[it[v]!++]!;
+        const w = mR[u]!;
         if (w < 0) {
           // Augment along the stack: each relation on it takes the unknown of its current edge.
           for (let i = top; i >= 0; i--) {
-            const vv = stack[i];
-            const uu = edges[vv][it[vv] - 1];
+            const vv = stack[i]!;
+            const uu = edges[vv]![it[vv]! - 1]!;
             mL[vv] = uu;
             mR[uu] = vv;
           }
           augmented = true;
           break;
         }
-        if (dist[w] === dist[v] + 1) stack[++top] = w;
+        if (dist[w] === dist[v]! + 1) stack[++top] = w;
       }
     }
     if (!augmented) break;
@@ -153,32 +154,36 @@ export function analyseStructure(
 
   // Unknown → relations containing it.
   const degree = new Int32Array(unknownCount + 1);
-  for (let r = 0; r < relationCount; r++)
-    for (let t = 0; t < edges[r].length; t++) degree[edges[r][t] + 1]++;
-  for (let u = 0; u < unknownCount; u++) degree[u + 1] += degree[u];
+  for (let r = 0; r < relationCount; r++) {
+    const e = edges[r]!;
+    for (let t = 0; t < e.length; t++) degree[e[t]! + 1]!++;
+  }
+  for (let u = 0; u < unknownCount; u++) degree[u + 1]! += degree[u]!;
   const start = degree;
   const fill = start.slice(0, unknownCount);
-  const byUnknown = new Int32Array(start[unknownCount]);
-  for (let r = 0; r < relationCount; r++)
-    for (let t = 0; t < edges[r].length; t++) byUnknown[fill[edges[r][t]]++] = r;
+  const byUnknown = new Int32Array(start[unknownCount]!);
+  for (let r = 0; r < relationCount; r++) {
+    const e = edges[r]!;
+    for (let t = 0; t < e.length; t++) byUnknown[fill[e[t]!]!++] = r;
+  }
 
   // Under-determined: alternating paths from unmatched unknowns.
   const underU = new Uint8Array(unknownCount);
   const underR = new Uint8Array(relationCount);
   const queue: number[] = [];
   for (let u = 0; u < unknownCount; u++) {
-    if (mR[u] < 0) {
+    if (mR[u]! < 0) {
       underU[u] = 1;
       queue.push(u);
     }
   }
   for (let qi = 0; qi < queue.length; qi++) {
-    const u = queue[qi];
-    for (let p = start[u]; p < start[u + 1]; p++) {
-      const r = byUnknown[p];
+    const u = queue[qi]!;
+    for (let p = start[u]!; p < start[u + 1]!; p++) {
+      const r = byUnknown[p]!;
       if (underR[r]) continue;
       underR[r] = 1;
-      const w = mL[r];
+      const w = mL[r]!;
       if (w >= 0 && !underU[w]) {
         underU[w] = 1;
         queue.push(w);
@@ -191,18 +196,18 @@ export function analyseStructure(
   const overU = new Uint8Array(unknownCount);
   const rq: number[] = [];
   for (let r = 0; r < relationCount; r++) {
-    if (mL[r] < 0) {
+    if (mL[r]! < 0) {
       overR[r] = 1;
       rq.push(r);
     }
   }
   for (let qi = 0; qi < rq.length; qi++) {
-    const e = edges[rq[qi]];
+    const e = edges[rq[qi]!]!;
     for (let t = 0; t < e.length; t++) {
-      const u = e[t];
+      const u = e[t]!;
       if (overU[u]) continue;
       overU[u] = 1;
-      const r2 = mR[u];
+      const r2 = mR[u]!;
       if (r2 >= 0 && !overR[r2]) {
         overR[r2] = 1;
         rq.push(r2);
@@ -217,8 +222,8 @@ export function analyseStructure(
   for (let u = 0; u < unknownCount; u++) parent[u] = u;
   const find = (a: number): number => {
     while (parent[a] !== a) {
-      parent[a] = parent[parent[a]];
-      a = parent[a];
+      parent[a] = parent[parent[a]!]!;
+      a = parent[a]!;
     }
     return a;
   };
@@ -227,11 +232,11 @@ export function analyseStructure(
     if (!underR[r]) continue;
     underRelations.push(r);
     let first = -1;
-    const e = edges[r];
+    const e = edges[r]!;
     for (let t = 0; t < e.length; t++) {
-      if (!underU[e[t]]) continue;
-      if (first < 0) first = e[t];
-      else parent[find(e[t])] = find(first);
+      if (!underU[e[t]!]) continue;
+      if (first < 0) first = e[t]!;
+      else parent[find(e[t]!)] = find(first);
     }
   }
   const groups = new Map<number, UnderdeterminedPart>();
@@ -244,29 +249,29 @@ export function analyseStructure(
       groups.set(root, g);
     }
     g.unknowns.push(u);
-    if (mR[u] < 0) {
+    if (mR[u]! < 0) {
       g.needs++;
       g.measure.push(u);
     }
   }
   for (const r of underRelations) {
-    const e = edges[r];
+    const e = edges[r]!;
     for (let t = 0; t < e.length; t++) {
-      if (underU[e[t]]) {
-        groups.get(find(e[t]))!.relations.push(r);
+      if (underU[e[t]!]) {
+        groups.get(find(e[t]!))!.relations.push(r);
         break;
       }
     }
   }
 
   const redundant: number[] = [];
-  for (let r = 0; r < relationCount; r++) if (mL[r] < 0) redundant.push(r);
+  for (let r = 0; r < relationCount; r++) if (mL[r]! < 0) redundant.push(r);
   const overRelations: number[] = [];
   for (let r = 0; r < relationCount; r++) if (overR[r]) overRelations.push(r);
   const overUnknowns: number[] = [];
   for (let u = 0; u < unknownCount; u++) if (overU[u]) overUnknowns.push(u);
   let needs = 0;
-  for (let u = 0; u < unknownCount; u++) if (mR[u] < 0) needs++;
+  for (let u = 0; u < unknownCount; u++) if (mR[u]! < 0) needs++;
 
   return {
     matchOfRelation: mL,
@@ -301,7 +306,7 @@ function tarjanBlocks(
   let counter = 0;
   const blocks: StructureBlock[] = [];
   for (let s = 0; s < relationCount; s++) {
-    if (mL[s] < 0 || skip[s] || index[s] >= 0) continue;
+    if (mL[s]! < 0 || skip[s] || index[s]! >= 0) continue;
     let cp = 0;
     callNode[0] = s;
     callEdge[0] = 0;
@@ -309,39 +314,39 @@ function tarjanBlocks(
     sccStack[sp++] = s;
     onStack[s] = 1;
     while (cp >= 0) {
-      const v = callNode[cp];
-      const e = edges[v];
-      if (callEdge[cp] < e.length) {
-        const u = e[callEdge[cp]++];
+      const v = callNode[cp]!;
+      const e = edges[v]!;
+      if (callEdge[cp]! < e.length) {
+        const u = e[callEdge[cp]!++]!;
         if (u === mL[v]) continue;
-        const w = mR[u];
+        const w = mR[u]!;
         if (w < 0 || skip[w]) continue;
-        if (index[w] < 0) {
+        if (index[w]! < 0) {
           index[w] = low[w] = counter++;
           sccStack[sp++] = w;
           onStack[w] = 1;
           cp++;
           callNode[cp] = w;
           callEdge[cp] = 0;
-        } else if (onStack[w] && index[w] < low[v]) {
-          low[v] = index[w];
+        } else if (onStack[w] && index[w]! < low[v]!) {
+          low[v] = index[w]!;
         }
       } else {
         cp--;
         if (cp >= 0) {
-          const p = callNode[cp];
-          if (low[v] < low[p]) low[p] = low[v];
+          const p = callNode[cp]!;
+          if (low[v]! < low[p]!) low[p] = low[v]!;
         }
         if (low[v] === index[v]) {
           const rel: number[] = [];
           let w: number;
           do {
-            w = sccStack[--sp];
+            w = sccStack[--sp]!;
             onStack[w] = 0;
             rel.push(w);
           } while (w !== v);
           rel.sort((a, b) => a - b);
-          blocks.push({ relations: rel, unknowns: rel.map((r) => mL[r]) });
+          blocks.push({ relations: rel, unknowns: rel.map((r) => mL[r]!) });
         }
       }
     }
