@@ -28,6 +28,8 @@ export type SaveConflict = DocumentConflict<FairsheetModelInput, ModelDiff>;
 export { renameInExpression } from '@shared/api';
 
 const liveSolveDelayMs = 60;
+/** A live solve in the browser stops here, as the server's stop at theirs: the page stays alive. */
+export const liveSolveTimeLimitMs = 500;
 
 const clone = <T>(value: T): T => JSON.parse(JSON.stringify(value)) as T;
 
@@ -104,7 +106,7 @@ export const useModelStore = defineStore('model', () => {
     clearTimeout(timer);
     const start = performance.now();
     // The raw object: going through Vue's reactive proxies would cost more than the solve.
-    result.value = solveModel(toRaw(model.value), { timeLimitMs: 500 });
+    result.value = solveModel(toRaw(model.value), { timeLimitMs: liveSolveTimeLimitMs });
     lastSolveMs.value = performance.now() - start;
     solves.value++;
   }

@@ -17,7 +17,7 @@ import {
   type Part,
   type PartDraft,
 } from '@/lib/part-rules';
-import { useModelStore } from './model';
+import { liveSolveTimeLimitMs, useModelStore } from './model';
 
 /**
  * The parts and features of the working model and their editing rules (src/lib/part-rules.ts).
@@ -41,7 +41,7 @@ export const usePartsStore = defineStore('parts', () => {
    */
   const evaluated = computed(() => {
     void model.result;
-    return evaluateFeatures(toRaw(model.model));
+    return evaluateFeatures(toRaw(model.model), { timeLimitMs: liveSolveTimeLimitMs });
   });
 
   const featuresOf = (partId: string) => features.value.filter((f) => f.part === partId);
