@@ -238,6 +238,35 @@ const rows: Row[] = [
     expect: edit(204),
   },
   {
+    route: 'POST /sheets/:sheetId/measurements',
+    key: 'POST /:projectId/sheets/:sheetId/measurements',
+    call: async (w) => {
+      // A sheet calibrated two-point (1,000 px is 10 in) with two pins 600 px apart.
+      const sheetId = await uploadSheet();
+      await c.owner
+        .patch(p(`/sheets/${sheetId}`), {
+          revision: 0,
+          calibration: {
+            method: 'two-point',
+            reference: { a: { x: 1, y: 1 }, b: { x: 1001, y: 1 }, length: '10', lengthMm: 254 },
+          },
+          pins: [
+            { id: 'pa', x: 100, y: 2 },
+            { id: 'pb', x: 700, y: 2 },
+          ],
+        })
+        .expect(200);
+      return w.post(p(`/sheets/${sheetId}/measurements`), {
+        sheetRevision: 1,
+        modelRevision: await revision(),
+        from: 'pa',
+        to: 'pb',
+        dimension: `span${++counter}`,
+      });
+    },
+    expect: edit(200),
+  },
+  {
     route: 'GET /invitations',
     key: 'GET /:projectId/invitations',
     call: (w) => w.get(p('/invitations')),

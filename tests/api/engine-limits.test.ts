@@ -148,11 +148,12 @@ describe('PUT /api/projects/:projectId/model over a limit', () => {
 });
 
 describe('the shop sheet of a stored model past the limits', () => {
-  // A model saved before the limits existed: written to the table directly, as a save then did.
+  // A model saved before the limits existed: written to the table directly, as a save then did
+  // (before features were stored with a revision, so with none).
   async function store(m: object) {
     await t.database.db
       .update(projectModels)
-      .set({ model: m, revision: sql`${projectModels.revision} + 1` })
+      .set({ model: m, features: null, revision: sql`${projectModels.revision} + 1` })
       .where(eq(projectModels.projectId, projectId));
   }
 

@@ -419,8 +419,9 @@ describe('a new builder’s journey, from an empty account to the shop sheet, in
       // The builder works the right bolt from the right-hand end, as the drawing invites.
       await addRelation(page, 'bolt2_x = length - end_b');
       const strip = page.getByTestId('status-strip');
+      // The live solve lands a moment after the last keystroke: wait for the whole verdict.
       await expect.poll(() => strip.innerText()).toMatch(/1 contradiction on the drawing/);
-      expect(await strip.innerText()).toMatch(/2 cross-checks close/);
+      await expect.poll(() => strip.innerText()).toMatch(/2 cross-checks close/);
       await saveModel(page);
       await shot(page, '06-figures-entered');
 
