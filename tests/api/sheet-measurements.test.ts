@@ -85,7 +85,7 @@ describe('POST /api/projects/:projectId/sheets/:sheetId/measurements', () => {
       sheet: sheetId,
       label: 'left to right',
     });
-    // The engine's floor for a scaled length: 0.5 % of it (calibrate.ts measureBetweenPins).
+    // The engine's floor for a scaled length: 0.5 % of it (calibrate/measure.ts, measureBetweenPins).
     expect(Number.parseFloat(dim.tol)).toBeGreaterThanOrEqual(6 * 0.005 - 1e-9);
     expect(res.body.sheet.revision).toBe(before.sheet.revision + 1);
     expect(res.body.sheet.measurements).toEqual([
