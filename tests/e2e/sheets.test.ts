@@ -198,6 +198,15 @@ describe('sheets on the canvas, in a real browser', () => {
     await expect.poll(() => listed.count()).toBe(0);
     await page.keyboard.press('Control+Shift+z');
     await listed.waitFor();
+
+    // A pin's label is typed in the list, kept as typed, and named by the measurement.
+    const labels = page.getByLabel('Pin label');
+    await labels.first().click();
+    await page.keyboard.type('left boss');
+    expect(await labels.first().inputValue()).toBe('left boss');
+    await page.keyboard.press('Enter');
+    await expect.poll(() => listed.textContent()).toContain('left boss');
+    expect(await labels.first().inputValue()).toBe('left boss');
     expect(errors).toEqual([]);
     await context.close();
   });
