@@ -9,7 +9,6 @@ export interface ServerSolveOptions {
 export type SolveJob = { id: number } & (
   | { kind: 'solve'; model: unknown; options: SolveOptions }
   | { kind: 'features'; model: unknown; options: SolveOptions }
-  | { kind: 'revision'; model: unknown; options: SolveOptions }
 );
 
 /** What a solve thread posts back: once `ready`, then per job its JSON text or its failure. */

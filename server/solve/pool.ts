@@ -36,10 +36,7 @@ export interface SolvePool {
   solve(model: unknown, options?: ServerSolveOptions): Promise<SolveResult>;
   /** The result of `evaluateFeatures` (the shop sheet's positions, drills and speeds). */
   features(model: unknown): Promise<FeaturesResult>;
-  /**
-   * A revision's solve and features in one job, for a save to store; the two answers are then
-   * cached as `solve` and `features` would cache them.
-   */
+  /** A revision's solve and features, for a save to store (each cached as its own job). */
   revision(model: unknown): Promise<{ result: SolveResult; features: FeaturesResult }>;
   /** Jobs handed to a thread so far (answers from the cache are not jobs). */
   readonly jobs: number;
@@ -315,16 +312,15 @@ export function createSolvePool(options: SolvePoolOptions = {}): SolvePool {
       ) as FeaturesResult;
     },
     async revision(model) {
-      const answer = JSON.parse(await run({ kind: 'revision', model, options: engineOptions })) as {
-        result: SolveResult;
-        features: FeaturesResult;
+      // Two jobs, each cached as it is: the threads take them side by side.
+      const [result, features] = await Promise.all([
+        run(solveSpec(model)),
+        run({ kind: 'features', model, options: engineOptions }),
+      ]);
+      return {
+        result: JSON.parse(result) as SolveResult,
+        features: JSON.parse(features) as FeaturesResult,
       };
-      cache.set(fingerprint(solveSpec(model)), JSON.stringify(answer.result));
-      cache.set(
-        fingerprint({ kind: 'features', model, options: engineOptions }),
-        JSON.stringify(answer.features),
-      );
-      return answer;
     },
     get jobs() {
       return jobs;

@@ -14,13 +14,6 @@ function run(job: SolveJob): string {
       return JSON.stringify(solveModel(job.model, job.options));
     case 'features':
       return JSON.stringify(evaluateFeatures(job.model, job.options));
-    case 'revision':
-      // A revision's whole answer in one job, under one time limit: what the workspace, the
-      // checks and the shop sheet read of it.
-      return JSON.stringify({
-        result: solveModel(job.model, job.options),
-        features: evaluateFeatures(job.model, job.options),
-      });
   }
 }
 

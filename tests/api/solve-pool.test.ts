@@ -207,12 +207,12 @@ describe('a revision is solved once', () => {
     }
   });
 
-  it('a save is one job: the solve and the features of its revision together', async () => {
+  it('a save solves its revision and its features once; the shop sheet and compare reuse them', async () => {
     const jobs = solver.jobs;
     await builder.put(url('/model'), { revision: 2, model: shigley(30) }).expect(200);
-    expect(solver.jobs).toBe(jobs + 1);
+    expect(solver.jobs).toBe(jobs + 2);
     await builder.get(url('/shop-sheet')).expect(200);
     await builder.get(url('/compare?from=2&to=3')).expect(200);
-    expect(solver.jobs).toBe(jobs + 1);
+    expect(solver.jobs).toBe(jobs + 2);
   });
 });
